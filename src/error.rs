@@ -1,0 +1,88 @@
+//! Typed errors. Every fallible call leaves the state it was called on unchanged.
+
+use core::fmt;
+
+/// Why a segment or path was refused.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
+pub enum PathError {
+    /// The path has no segments.
+    Empty,
+    /// A length, curvature, sharpness, pose or tolerance is NaN or infinite
+    /// (`index` is the segment, or `usize::MAX` for a value not tied to one).
+    NonFinite {
+        /// Segment at fault.
+        index: usize,
+    },
+    /// A segment's length is zero or negative.
+    NonPositiveLength {
+        /// Segment at fault.
+        index: usize,
+    },
+    /// More segments than the path's capacity `N`.
+    CapacityExceeded,
+    /// The start of segment `index` is farther from the end of the previous
+    /// segment than the position tolerance (G0).
+    PositionGap {
+        /// Segment whose start is off.
+        index: usize,
+    },
+    /// The heading at the start of segment `index` differs from the heading at
+    /// the end of the previous segment by more than the heading tolerance (G1).
+    HeadingGap {
+        /// Segment whose start heading is off.
+        index: usize,
+    },
+    /// A tolerance or other parameter is negative or out of its range.
+    OutOfRange,
+    /// A station outside the path (open paths only).
+    StationOutOfRange,
+}
+
+impl fmt::Display for PathError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            PathError::Empty => f.write_str("path has no segments"),
+            PathError::NonFinite { index } => write!(f, "non-finite value at segment {index}"),
+            PathError::NonPositiveLength { index } => {
+                write!(f, "segment {index} has zero or negative length")
+            }
+            PathError::CapacityExceeded => f.write_str("more segments than the path can hold"),
+            PathError::PositionGap { index } => {
+                write!(f, "segment {index} does not start where the previous one ends")
+            }
+            PathError::HeadingGap { index } => write!(
+                f,
+                "segment {index} does not start with the heading the previous one ends with"
+            ),
+            PathError::OutOfRange => f.write_str("parameter out of range"),
+            PathError::StationOutOfRange => f.write_str("station outside the path"),
+        }
+    }
+}
+
+impl core::error::Error for PathError {}
+
+/// Why a tracker update or configuration was refused.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
+pub enum TrackError {
+    /// The pose or a distance given is NaN or infinite.
+    NonFinite,
+    /// A configuration value is negative, zero where it must be positive, or
+    /// otherwise out of range.
+    OutOfRange,
+}
+
+impl fmt::Display for TrackError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            TrackError::NonFinite => f.write_str("non-finite input"),
+            TrackError::OutOfRange => f.write_str("configuration value out of range"),
+        }
+    }
+}
+
+impl core::error::Error for TrackError {}

@@ -1,0 +1,609 @@
+//! A fixed-capacity path of segments, each placed at its anchor.
+//!
+//! Each segment is stored with its **anchor**: the station, position and
+//! heading (as a unit vector) where it starts. Anchors are computed once, when
+//! the path is built, in `f64` whatever `T` is, and every evaluation inside a
+//! segment is relative to its anchor. An `f32` path therefore stays accurate
+//! over kilometres: the error of one evaluation is that of one segment, not
+//! the sum over all segments before it.
+//!
+//! A placed segment takes 32 bytes with `f32` (seven numbers and the driving
+//! direction; the length is the difference of consecutive stations), so a
+//! 500 m straight pass costs 32 bytes, not thousands of points.
+//!
+//! Paths are open or closed. On a closed path stations wrap modulo the total
+//! length and the last segment must end where the first begins.
+
+use heapless::Vec;
+
+use crate::complex::Cplx;
+use crate::error::PathError;
+use crate::pose::{Direction, PathPoint, Pose};
+use crate::real::Real;
+use crate::segment::Segment;
+
+/// How far apart consecutive segments may be and still count as joined.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Continuity {
+    /// Largest gap between the end of one segment and the start of the next, metres (G0).
+    pub position: f64,
+    /// Largest heading jump at a joint, radians (G1).
+    pub heading: f64,
+}
+
+impl Continuity {
+    /// 1 mm and 1 mrad: tight enough for guidance, loose enough for a path
+    /// stored in millimetres and micro-radians.
+    pub const DEFAULT: Self = Self {
+        position: 1e-3,
+        heading: 1e-3,
+    };
+
+    fn check(&self) -> Result<(), PathError> {
+        let ok = |v: f64| v.is_finite() && v >= 0.0;
+        if ok(self.position) && ok(self.heading) {
+            Ok(())
+        } else {
+            Err(PathError::OutOfRange)
+        }
+    }
+}
+
+impl Default for Continuity {
+    fn default() -> Self {
+        Self::DEFAULT
+    }
+}
+
+/// A segment placed on the path: its shape and its anchor.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Placed<T> {
+    pub station: T,
+    pub kappa0: T,
+    pub sigma: T,
+    pub x: T,
+    pub y: T,
+    pub cos: T,
+    pub sin: T,
+    pub direction: Direction,
+}
+
+/// An anchor computed in `f64`: where a segment starts.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Anchor64 {
+    station: f64,
+    x: f64,
+    y: f64,
+    /// Unwrapped heading, radians.
+    theta: f64,
+}
+
+impl Anchor64 {
+    fn from_pose(p: Pose<f64>) -> Self {
+        Self {
+            station: 0.0,
+            x: p.x,
+            y: p.y,
+            theta: p.heading,
+        }
+    }
+
+    /// The anchor at the end of `seg` started here.
+    fn after(&self, seg: &Segment<f64>) -> Self {
+        let lp = seg.local(seg.length());
+        let start = Cplx::expi(self.theta);
+        let d = lp.offset * start;
+        Self {
+            station: self.station + seg.length(),
+            x: self.x + d.re,
+            y: self.y + d.im,
+            theta: self.theta + seg.heading_change(seg.length()),
+        }
+    }
+
+    fn place<T: Real>(&self, seg: &Segment<T>) -> Placed<T> {
+        Placed {
+            kappa0: seg.kappa0(),
+            sigma: seg.sigma(),
+            direction: seg.direction(),
+            ..self.place_point()
+        }
+    }
+
+    /// The anchor as a record with zero curvature (the path's end pose).
+    fn place_point<T: Real>(&self) -> Placed<T> {
+        let (s, c) = libm::sincos(self.theta);
+        Placed {
+            station: T::from_f64(self.station),
+            kappa0: T::ZERO,
+            sigma: T::ZERO,
+            x: T::from_f64(self.x),
+            y: T::from_f64(self.y),
+            cos: T::from_f64(c),
+            sin: T::from_f64(s),
+            direction: Direction::Forward,
+        }
+    }
+
+    /// Gaps (position metres, heading radians wrapped) to another anchor.
+    fn gaps(&self, other: &Self) -> (f64, f64) {
+        let dx = other.x - self.x;
+        let dy = other.y - self.y;
+        let dp = libm::sqrt(dx * dx + dy * dy);
+        let dh = libm::fabs((other.theta - self.theta).wrap_angle());
+        (dp, dh)
+    }
+}
+
+/// Builds a [`Path`] segment by segment from a start pose, so that every
+/// segment starts exactly where the previous one ends (G0 and G1 continuous
+/// by construction).
+///
+/// ```
+/// use kappaline::{PathBuilder, Pose, Segment};
+/// # fn main() -> Result<(), kappaline::PathError> {
+/// let path = PathBuilder::<f64, 8>::new(Pose::new(0.0, 0.0, 0.0))?
+///     .push(Segment::line(50.0)?)?
+///     .push(Segment::transition(10.0, 0.0, 0.1)?)?
+///     .push(Segment::arc(20.0, 0.1)?)?
+///     .build()?;
+/// assert_eq!(path.len(), 3);
+/// assert!((path.length() - 80.0).abs() < 1e-12);
+/// # Ok(()) }
+/// ```
+#[derive(Debug, Clone)]
+pub struct PathBuilder<T: Real, const N: usize> {
+    placed: Vec<Placed<T>, N>,
+    start: Anchor64,
+    next: Anchor64,
+}
+
+impl<T: Real, const N: usize> PathBuilder<T, N> {
+    /// Starts a path at `start` (metres, radians).
+    ///
+    /// # Errors
+    /// [`PathError::NonFinite`] if the pose is not finite.
+    pub fn new(start: Pose<T>) -> Result<Self, PathError> {
+        if !start.is_finite() {
+            return Err(PathError::NonFinite { index: usize::MAX });
+        }
+        let a = Anchor64::from_pose(Pose::new(
+            start.x.to_f64(),
+            start.y.to_f64(),
+            start.heading.to_f64(),
+        ));
+        Ok(Self {
+            placed: Vec::new(),
+            start: a,
+            next: a,
+        })
+    }
+
+    /// Appends a segment starting where the last one ends.
+    ///
+    /// # Errors
+    /// [`PathError::CapacityExceeded`] when `N` segments are already held;
+    /// [`PathError::NonFinite`] if the segment's end would lie at a
+    /// non-finite position. The builder is unchanged on error.
+    pub fn push(mut self, seg: Segment<T>) -> Result<Self, PathError> {
+        self.try_push(seg)?;
+        Ok(self)
+    }
+
+    /// Appends a segment in place (for loops that build a path from data).
+    ///
+    /// # Errors
+    /// As [`PathBuilder::push`]; the builder is unchanged on error.
+    pub fn try_push(&mut self, seg: Segment<T>) -> Result<(), PathError> {
+        let index = self.placed.len();
+        if index >= N {
+            return Err(PathError::CapacityExceeded);
+        }
+        let after = self.next.after(&seg.cast::<f64>());
+        let finite = after.x.is_finite() && after.y.is_finite() && after.theta.is_finite();
+        if !finite || !T::from_f64(after.station).is_finite() {
+            return Err(PathError::NonFinite { index });
+        }
+        self.placed
+            .push(self.next.place(&seg))
+            .map_err(|_| PathError::CapacityExceeded)?;
+        self.next = after;
+        Ok(())
+    }
+
+    /// Number of segments so far.
+    pub fn len(&self) -> usize {
+        self.placed.len()
+    }
+
+    /// `true` before the first segment.
+    pub fn is_empty(&self) -> bool {
+        self.placed.is_empty()
+    }
+
+    /// Where the next segment would start: `(x, y, heading)` in metres and
+    /// radians (heading unwrapped, the sum of all turns since the start).
+    pub fn end_pose(&self) -> Pose<f64> {
+        Pose::new(self.next.x, self.next.y, self.next.theta)
+    }
+
+    /// Finishes an open path.
+    ///
+    /// # Errors
+    /// [`PathError::Empty`] if no segment was pushed.
+    pub fn build(self) -> Result<Path<T, N>, PathError> {
+        self.finish(false)
+    }
+
+    /// Finishes a closed path (a loop): stations wrap at the end.
+    ///
+    /// # Errors
+    /// [`PathError::Empty`] if no segment was pushed;
+    /// [`PathError::PositionGap`] or [`PathError::HeadingGap`] (with
+    /// `index` 0) if the end is farther from the start than `tolerance`.
+    pub fn close(self, tolerance: Continuity) -> Result<Path<T, N>, PathError> {
+        tolerance.check()?;
+        let (dp, dh) = self.next.gaps(&self.start);
+        if dp > tolerance.position {
+            return Err(PathError::PositionGap { index: 0 });
+        }
+        if dh > tolerance.heading {
+            return Err(PathError::HeadingGap { index: 0 });
+        }
+        self.finish(true)
+    }
+
+    fn finish(self, closed: bool) -> Result<Path<T, N>, PathError> {
+        if self.placed.is_empty() {
+            return Err(PathError::Empty);
+        }
+        Ok(Path {
+            placed: self.placed,
+            total: T::from_f64(self.next.station),
+            end: self.next.place_point(),
+            closed,
+        })
+    }
+}
+
+/// A segment with the anchor it was stored with (for loading a stored path).
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct AnchoredSegment<T> {
+    /// The segment's shape.
+    pub segment: Segment<T>,
+    /// Where it starts: metres and radians.
+    pub start: Pose<T>,
+}
+
+/// A reference path: up to `N` segments, each placed at its anchor.
+///
+/// Built with [`PathBuilder`] or [`Path::from_anchored`]; always holds at
+/// least one segment. See the module documentation for the storage layout.
+#[derive(Debug, Clone)]
+pub struct Path<T: Real, const N: usize> {
+    placed: Vec<Placed<T>, N>,
+    total: T,
+    /// The end pose of the last segment, stored as a placed record.
+    end: Placed<T>,
+    closed: bool,
+}
+
+impl<T: Real, const N: usize> Path<T, N> {
+    /// Builds an open path from a start pose and a list of segments.
+    ///
+    /// # Errors
+    /// As [`PathBuilder::push`] and [`PathBuilder::build`]; a segment error
+    /// carries the index of the segment at fault.
+    pub fn from_segments(start: Pose<T>, segments: &[Segment<T>]) -> Result<Self, PathError> {
+        let mut b = PathBuilder::new(start)?;
+        for s in segments {
+            b.try_push(*s)?;
+        }
+        b.build()
+    }
+
+    /// Builds a path from segments that carry their own start poses, as a
+    /// stored path does, checking that each start lies within `tolerance` of
+    /// the end of the segment before (and, if `closed`, that the last ends
+    /// within `tolerance` of the first's start).
+    ///
+    /// The stored anchors are kept (not the recomputed ones), so tiny gaps
+    /// within the tolerance stay tiny instead of adding up along the path.
+    ///
+    /// # Errors
+    /// [`PathError::Empty`], [`PathError::CapacityExceeded`],
+    /// [`PathError::NonFinite`], [`PathError::OutOfRange`] (bad tolerance),
+    /// [`PathError::PositionGap`] and [`PathError::HeadingGap`], each with
+    /// the index of the segment whose start is off (0 for the closing joint).
+    pub fn from_anchored(
+        parts: &[AnchoredSegment<T>],
+        tolerance: Continuity,
+        closed: bool,
+    ) -> Result<Self, PathError> {
+        tolerance.check()?;
+        if parts.is_empty() {
+            return Err(PathError::Empty);
+        }
+        if parts.len() > N {
+            return Err(PathError::CapacityExceeded);
+        }
+        let mut placed = Vec::new();
+        let mut prev_end: Option<Anchor64> = None;
+        let mut station = 0.0f64;
+        let mut first = None;
+        for (index, part) in parts.iter().enumerate() {
+            if !part.start.is_finite() {
+                return Err(PathError::NonFinite { index });
+            }
+            let mut a = Anchor64::from_pose(Pose::new(
+                part.start.x.to_f64(),
+                part.start.y.to_f64(),
+                part.start.heading.to_f64(),
+            ));
+            a.station = station;
+            if let Some(e) = prev_end {
+                check_joint(&e, &a, tolerance, index)?;
+            }
+            let seg64 = part.segment.cast::<f64>();
+            let end = a.after(&seg64);
+            if !(end.x.is_finite() && end.y.is_finite()) {
+                return Err(PathError::NonFinite { index });
+            }
+            placed
+                .push(a.place(&part.segment))
+                .map_err(|_| PathError::CapacityExceeded)?;
+            first.get_or_insert(a);
+            station = end.station;
+            prev_end = Some(end);
+        }
+        let (Some(end), Some(first)) = (prev_end, first) else {
+            return Err(PathError::Empty);
+        };
+        if closed {
+            check_joint(&end, &first, tolerance, 0)?;
+        }
+        Ok(Self {
+            placed,
+            total: T::from_f64(station),
+            end: end.place_point(),
+            closed,
+        })
+    }
+
+    /// Number of segments.
+    #[inline]
+    pub fn len(&self) -> usize {
+        self.placed.len()
+    }
+
+    /// Always `false`: a path holds at least one segment.
+    #[inline]
+    pub fn is_empty(&self) -> bool {
+        self.placed.is_empty()
+    }
+
+    /// Total length, metres.
+    #[inline]
+    pub fn length(&self) -> T {
+        self.total
+    }
+
+    /// `true` for a loop, where stations wrap modulo [`Path::length`].
+    #[inline]
+    pub fn is_closed(&self) -> bool {
+        self.closed
+    }
+
+    /// Segment `index` (shape and direction), or `None` past the end.
+    pub fn segment(&self, index: usize) -> Option<Segment<T>> {
+        let p = self.placed.get(index)?;
+        let len = self.segment_length(index);
+        Segment::clothoid(len, p.kappa0, p.sigma)
+            .ok()
+            .map(|s| s.with_direction(p.direction))
+    }
+
+    /// Station where segment `index` starts, metres, or `None` past the end.
+    pub fn segment_start(&self, index: usize) -> Option<T> {
+        self.placed.get(index).map(|p| p.station)
+    }
+
+    /// The start pose of segment `index` (its anchor), or `None` past the end.
+    pub fn anchor(&self, index: usize) -> Option<Pose<T>> {
+        self.placed
+            .get(index)
+            .map(|p| Pose::new(p.x, p.y, p.sin.atan2(p.cos)))
+    }
+
+    /// The jump in curvature at the start of segment `index` (1/m): its
+    /// start curvature minus the end curvature of the segment before
+    /// (on a closed path, segment 0 is preceded by the last). `None` for the
+    /// first segment of an open path and past the end. Zero means G2.
+    pub fn curvature_jump(&self, index: usize) -> Option<T> {
+        let here = self.placed.get(index)?;
+        let before = if index == 0 {
+            if !self.closed {
+                return None;
+            }
+            self.len() - 1
+        } else {
+            index - 1
+        };
+        let b = self.placed.get(before)?;
+        let end_kappa = b.kappa0 + b.sigma * self.segment_length(before);
+        Some(here.kappa0 - end_kappa)
+    }
+
+    /// The path at `station` metres. On an open path the station is clamped
+    /// to `[0, length]`; on a closed path it wraps.
+    ///
+    /// Cost: a binary search over the segments (O(log N)) and one segment
+    /// evaluation. Use a [`crate::Cursor`] for stepping along the path.
+    pub fn at(&self, station: T) -> PathPoint<T> {
+        let s = self.normalize_station(station);
+        let i = self.find_segment(s);
+        self.eval_in(i, s - self.placed_at(i).station)
+    }
+
+    /// The end pose of the path (metres, radians).
+    pub fn end_pose(&self) -> Pose<T> {
+        Pose::new(self.end.x, self.end.y, self.end.sin.atan2(self.end.cos))
+    }
+
+    /// Length of segment `index`, metres (difference of stations).
+    #[inline]
+    pub(crate) fn segment_length(&self, index: usize) -> T {
+        let start = self.placed_at(index).station;
+        match self.placed.get(index + 1) {
+            Some(n) => n.station - start,
+            None => self.total - start,
+        }
+    }
+
+    /// Where segment `index` ends: the next anchor, or the path's end.
+    #[inline]
+    pub(crate) fn segment_end(&self, index: usize) -> (T, T) {
+        let e = self.placed.get(index + 1).unwrap_or(&self.end);
+        (e.x, e.y)
+    }
+
+    /// Placed segment `index`, clamped to the last one (never panics).
+    #[inline]
+    pub(crate) fn placed_at(&self, index: usize) -> &Placed<T> {
+        let i = index.min(self.placed.len().saturating_sub(1));
+        // A path always holds at least one segment, so `get` succeeds; the
+        // fallback keeps the function total without a panic path.
+        self.placed.get(i).unwrap_or(&self.end)
+    }
+
+    /// Wraps (closed) or clamps (open) a station into the path.
+    pub(crate) fn normalize_station(&self, s: T) -> T {
+        if self.closed {
+            if s >= T::ZERO && s < self.total {
+                return s;
+            }
+            let k = (s / self.total).floor();
+            let r = s - k * self.total;
+            if r < T::ZERO || r >= self.total {
+                T::ZERO
+            } else {
+                r
+            }
+        } else {
+            s.clamp_to(T::ZERO, self.total)
+        }
+    }
+
+    /// The segment holding station `s` (already normalised): binary search.
+    pub(crate) fn find_segment(&self, s: T) -> usize {
+        let idx = self.placed.partition_point(|p| p.station <= s);
+        idx.saturating_sub(1)
+    }
+
+    /// The path point `u` metres into segment `index` (not clamped).
+    pub(crate) fn eval_in(&self, index: usize, u: T) -> PathPoint<T> {
+        let p = self.placed_at(index);
+        let lp = crate::segment::local_pose(p.kappa0, p.sigma, u);
+        let start = Cplx::new(p.cos, p.sin);
+        let d = lp.offset * start;
+        let t = lp.turn * start;
+        PathPoint {
+            station: p.station + u,
+            x: p.x + d.re,
+            y: p.y + d.im,
+            cos: t.re,
+            sin: t.im,
+            curvature: lp.curvature,
+            sharpness: p.sigma,
+            segment: index.min(self.placed.len().saturating_sub(1)),
+            direction: p.direction,
+        }
+    }
+}
+
+fn check_joint(
+    end: &Anchor64,
+    next: &Anchor64,
+    tol: Continuity,
+    index: usize,
+) -> Result<(), PathError> {
+    let (dp, dh) = end.gaps(next);
+    if !(dp <= tol.position) {
+        return Err(PathError::PositionGap { index });
+    }
+    if !(dh <= tol.heading) {
+        return Err(PathError::HeadingGap { index });
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn demo() -> Path<f64, 8> {
+        PathBuilder::new(Pose::new(1.0, 2.0, 0.3))
+            .unwrap()
+            .push(Segment::line(10.0).unwrap())
+            .unwrap()
+            .push(Segment::transition(5.0, 0.0, 0.2).unwrap())
+            .unwrap()
+            .push(Segment::arc(7.0, 0.2).unwrap())
+            .unwrap()
+            .build()
+            .unwrap()
+    }
+
+    #[test]
+    fn placed_segment_is_32_bytes_in_f32() {
+        assert!(core::mem::size_of::<Placed<f32>>() <= 32);
+    }
+
+    #[test]
+    fn builder_rejects_and_keeps_state() {
+        let mut b = PathBuilder::<f64, 1>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
+        b.try_push(Segment::line(1.0).unwrap()).unwrap();
+        let before = b.end_pose();
+        assert_eq!(
+            b.try_push(Segment::line(1.0).unwrap()),
+            Err(PathError::CapacityExceeded)
+        );
+        assert_eq!(b.end_pose(), before);
+        assert_eq!(b.len(), 1);
+        assert_eq!(
+            PathBuilder::<f64, 1>::new(Pose::new(f64::NAN, 0.0, 0.0)).err(),
+            Some(PathError::NonFinite { index: usize::MAX })
+        );
+        assert_eq!(
+            PathBuilder::<f64, 1>::new(Pose::new(0.0, 0.0, 0.0))
+                .unwrap()
+                .build()
+                .err(),
+            Some(PathError::Empty)
+        );
+    }
+
+    #[test]
+    fn segments_read_back() {
+        let p = demo();
+        assert_eq!(p.len(), 3);
+        let s = p.segment(1).unwrap();
+        assert!((s.length() - 5.0).abs() < 1e-12);
+        assert!((s.kappa_end() - 0.2).abs() < 1e-12);
+        assert!(p.segment(3).is_none());
+        assert_eq!(p.curvature_jump(0), None);
+        assert!(p.curvature_jump(1).unwrap().abs() < 1e-15);
+        assert!(p.curvature_jump(2).unwrap().abs() < 1e-12);
+    }
+
+    #[test]
+    fn stations_clamp_on_open_paths() {
+        let p = demo();
+        assert_eq!(p.at(-5.0).station, 0.0);
+        assert!((p.at(100.0).station - 22.0).abs() < 1e-12);
+        let a = p.at(3.0);
+        assert!((a.x - (1.0 + 3.0 * libm::cos(0.3))).abs() < 1e-12);
+    }
+}

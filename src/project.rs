@@ -1,0 +1,186 @@
+//! Nearest point on one segment to a query point.
+//!
+//! The foot point of `q` on a curve `p(u)` is where the tangent is
+//! perpendicular to `p - q`: `f(u) = (p(u) - q) . T(u) = 0`, with
+//! `f'(u) = 1 - kappa(u) d(u)` and `d = (q - p) . N` the signed lateral offset.
+//!
+//! * Line: `u = (q - p0) . T0`, clamped.
+//! * Arc: the angle of `q` seen from the centre, written so that the centre
+//!   never appears (it is at infinity for a straight-ish arc):
+//!   `kappa u = atan2(kappa qx, 1 - kappa qy)` in the segment frame, plus
+//!   whole turns, clamped. Exact for radii from millimetres to 1e12 m.
+//! * Clothoid: the search interval is cut into pieces turning at most
+//!   pi/4 each; where `f` changes sign from negative to positive (a local
+//!   minimum of the distance) a Newton iteration refines it, safeguarded by
+//!   bisection so it never leaves the bracket. The inside of a tight curve,
+//!   where `f' -> 0`, falls back to bisection.
+//!
+//! The interval ends are always candidates, so the result is the nearest
+//! point on the closed interval, not merely a stationary point.
+
+use crate::path::Path;
+use crate::real::{c, Real};
+
+/// At most this many pieces per clothoid interval (bounded cost).
+const MAX_PIECES: u32 = 16;
+/// Newton/bisection iterations per bracket.
+const MAX_ITER: u32 = 48;
+
+/// A candidate foot point.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Foot<T> {
+    pub segment: usize,
+    /// Distance into the segment, metres.
+    pub offset: T,
+    /// Squared distance to the query point, m^2.
+    pub dist2: T,
+}
+
+/// The nearest point to `(qx, qy)` on segment `i` restricted to `[lo, hi]`
+/// (metres into the segment, `0 <= lo <= hi <= length`).
+pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    i: usize,
+    lo: T,
+    hi: T,
+    qx: T,
+    qy: T,
+) -> Foot<T> {
+    let pl = *path.placed_at(i);
+    let dist2 = |u: T| {
+        let p = path.eval_in(i, u);
+        let dx = p.x - qx;
+        let dy = p.y - qy;
+        dx * dx + dy * dy
+    };
+    let mut best = Foot {
+        segment: i,
+        offset: lo,
+        dist2: dist2(lo),
+    };
+    let mut consider = |u: T| {
+        let u = u.clamp_to(lo, hi);
+        let d = dist2(u);
+        if d < best.dist2 {
+            best = Foot {
+                segment: i,
+                offset: u,
+                dist2: d,
+            };
+        }
+    };
+    consider(hi);
+    // q in the segment's own frame.
+    let dx = qx - pl.x;
+    let dy = qy - pl.y;
+    let lx = dx * pl.cos + dy * pl.sin;
+    let ly = dy * pl.cos - dx * pl.sin;
+    if pl.sigma == T::ZERO {
+        let k = pl.kappa0;
+        if k == T::ZERO {
+            consider(lx);
+        } else {
+            let u0 = (k * lx).atan2(T::ONE - k * ly) / k;
+            let period = T::TWO * T::PI / k.abs();
+            // Whole turns that bring u0 into the interval (at most two fit
+            // in any interval shorter than a lap; longer ones see three).
+            let base = u0 + ((lo - u0) / period).floor() * period;
+            for n in 0..4u32 {
+                let u = base + T::from_u32(n) * period;
+                if u > hi + period {
+                    break;
+                }
+                consider(u);
+            }
+        }
+    } else {
+        for u in clothoid_roots(path, i, lo, hi, qx, qy).into_iter().flatten() {
+            consider(u);
+        }
+    }
+    best
+}
+
+/// Local minima of the distance on a clothoid interval (up to `MAX_PIECES`).
+fn clothoid_roots<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    i: usize,
+    lo: T,
+    hi: T,
+    qx: T,
+    qy: T,
+) -> [Option<T>; MAX_PIECES as usize] {
+    let pl = *path.placed_at(i);
+    let mut out = [None; MAX_PIECES as usize];
+    let kappa_lo = (pl.kappa0 + pl.sigma * lo).abs();
+    let kappa_hi = (pl.kappa0 + pl.sigma * hi).abs();
+    let turn = kappa_lo.max(kappa_hi) * (hi - lo);
+    let quarter: T = c(core::f64::consts::FRAC_PI_4);
+    let want = (turn / quarter).floor() + T::ONE;
+    let pieces = if want < T::from_u32(MAX_PIECES) {
+        // `want` is a small whole number here.
+        let mut n = 1u32;
+        while T::from_u32(n) < want {
+            n += 1;
+        }
+        n
+    } else {
+        MAX_PIECES
+    };
+    let width = (hi - lo) / T::from_u32(pieces);
+    // f(u) = (p - q) . T and the lateral offset d = (q - p) . N.
+    let f_and_slope = |u: T| {
+        let p = path.eval_in(i, u);
+        let ex = p.x - qx;
+        let ey = p.y - qy;
+        let f = ex * p.cos + ey * p.sin;
+        let d = ey * p.cos - ex * p.sin; // (p - q) . N = -d
+        (f, T::ONE + p.curvature * d)
+    };
+    let mut a = lo;
+    let mut fa = f_and_slope(a).0;
+    for (k, slot) in out.iter_mut().enumerate().take(pieces as usize) {
+        let b = if k + 1 == pieces as usize {
+            hi
+        } else {
+            lo + width * T::from_u32(k as u32 + 1)
+        };
+        let fb = f_and_slope(b).0;
+        if fa < T::ZERO && fb > T::ZERO {
+            *slot = Some(refine(a, b, fa, fb, &f_and_slope));
+        }
+        a = b;
+        fa = fb;
+    }
+    out
+}
+
+/// Safeguarded Newton in the bracket `[a, b]` with `f(a) < 0 < f(b)`.
+fn refine<T: Real>(mut a: T, mut b: T, fa: T, fb: T, f: &impl Fn(T) -> (T, T)) -> T {
+    // Start from the secant point: good when the piece is nearly straight.
+    let mut u = a - fa * (b - a) / (fb - fa);
+    for _ in 0..MAX_ITER {
+        let (fu, slope) = f(u);
+        if fu < T::ZERO {
+            a = u;
+        } else if fu > T::ZERO {
+            b = u;
+        } else {
+            return u;
+        }
+        let mut next = if slope > T::ZERO {
+            u - fu / slope
+        } else {
+            a // forces bisection below
+        };
+        if !(next > a && next < b) {
+            next = T::HALF * (a + b);
+        }
+        let tol = T::EPSILON * c(4.0) * (T::ONE + u.abs());
+        if (next - u).abs() <= tol || (b - a) <= tol {
+            return next;
+        }
+        u = next;
+    }
+    u
+}

@@ -1,0 +1,420 @@
+//! Where the vehicle is relative to the path: station, cross-track error,
+//! heading error, curvature here and ahead.
+//!
+//! # Projection window
+//!
+//! Each update projects the control point onto the path only within a
+//! window of stations around the last foot point: `window_back` metres
+//! behind, `window_ahead` metres ahead (set it to what the vehicle can drive
+//! in one control period, plus a margin). The window is what keeps the
+//! tracker on its pass when a neighbouring pass of a field lies 3 m to the
+//! side, and on its branch where a path crosses itself: those points are
+//! close in the plane but far in station.
+//!
+//! # Acquisition and loss
+//!
+//! The first update after [`Tracker::new`] or [`Tracker::reset`] runs a
+//! search of the whole path (bounded: one bounding-circle test per segment,
+//! and a projection only on segments that can beat the best so far). When
+//! the nearest point in the window is farther than `lost_distance`, the
+//! update reports [`TrackStatus::Lost`] and the tracker keeps its last good
+//! station: it does not re-acquire on its own, because after a position jump
+//! the nearest path may well be the wrong pass. Call [`Tracker::reset`] (or
+//! [`Tracker::acquire`]) when the supervisor decides to re-acquire.
+//!
+//! # Cost
+//!
+//! Lines: no trigonometry. Arcs: one `sin_cos` and one `atan2` per segment
+//! in the window. Clothoids: a few generalised Fresnel evaluations. Plus one
+//! evaluation for the lookahead point and one `atan2` for the heading error.
+//! The work is bounded by [`MAX_WINDOW_SEGMENTS`] whatever the input.
+
+use crate::cursor::Cursor;
+use crate::error::TrackError;
+use crate::path::Path;
+use crate::pose::{PathPoint, Pose};
+use crate::project::{nearest_on_segment, Foot};
+use crate::real::{c, Real};
+
+/// The projection window covers at most this many segments; a window over
+/// more (very short) segments is cut at its far end.
+pub const MAX_WINDOW_SEGMENTS: usize = 32;
+
+/// Tracker settings. All distances in metres.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TrackerConfig<T> {
+    /// How far behind the last foot point the projection looks, metres (>= 0).
+    pub window_back: T,
+    /// How far ahead of the last foot point the projection looks, metres (> 0).
+    /// At least the distance driven in one control period plus a margin.
+    pub window_ahead: T,
+    /// Above this distance from the path (lateral offset beyond the ends of
+    /// an open path) the update reports [`TrackStatus::Lost`], metres (> 0).
+    pub lost_distance: T,
+    /// Distance ahead of the foot point for [`Tracking::ahead`], metres (>= 0).
+    pub lookahead: T,
+    /// During acquisition, metres of distance one radian of heading error is
+    /// worth (>= 0): with it, a vehicle between two passes driven in opposite
+    /// directions picks the one it is heading along. 0 picks the nearest.
+    pub heading_weight: T,
+}
+
+impl<T: Real> TrackerConfig<T> {
+    /// Defaults for a field machine at up to 5 m/s and 10 Hz or faster:
+    /// window 1 m back and 3 m ahead, lost at 2 m, lookahead 3 m, heading
+    /// weight 1 m/rad.
+    pub fn field() -> Self {
+        Self {
+            window_back: c(1.0),
+            window_ahead: c(3.0),
+            lost_distance: c(2.0),
+            lookahead: c(3.0),
+            heading_weight: c(1.0),
+        }
+    }
+
+    fn check(&self) -> Result<(), TrackError> {
+        let all = [
+            self.window_back,
+            self.window_ahead,
+            self.lost_distance,
+            self.lookahead,
+            self.heading_weight,
+        ];
+        if all.iter().any(|v| !v.is_finite()) {
+            return Err(TrackError::NonFinite);
+        }
+        let ok = self.window_back >= T::ZERO
+            && self.window_ahead > T::ZERO
+            && self.lost_distance > T::ZERO
+            && self.lookahead >= T::ZERO
+            && self.heading_weight >= T::ZERO;
+        if ok {
+            Ok(())
+        } else {
+            Err(TrackError::OutOfRange)
+        }
+    }
+}
+
+/// How the control point relates to the path.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum TrackStatus {
+    /// The foot point lies on the path.
+    OnPath,
+    /// Behind the start of an open path: station is negative (distance
+    /// along the start tangent), cross-track is to the extended start line.
+    BeforeStart,
+    /// Past the end of an open path: station exceeds the length, cross-track
+    /// is to the extended end line.
+    PastEnd,
+    /// Farther than `lost_distance` from the path within the window: the
+    /// errors are those of the nearest point found, the tracker's state did
+    /// not move.
+    Lost,
+}
+
+/// The tracking state for one update.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Tracking<T> {
+    /// Station of the control point, metres (extrapolated before the start
+    /// and past the end of an open path).
+    pub station: T,
+    /// Signed cross-track error, metres, positive when the control point is
+    /// left of the path (along the normal `(-sin, cos)` of the path heading).
+    pub cross_track: T,
+    /// Vehicle body heading minus the heading it should have here (path
+    /// heading, plus pi on reverse segments), radians in `(-pi, pi]`,
+    /// positive counter-clockwise.
+    pub heading_error: T,
+    /// Path curvature at the foot point, 1/m, positive left.
+    pub curvature: T,
+    /// Path curvature at the lookahead station, 1/m.
+    pub curvature_ahead: T,
+    /// Distance left to the end of the path (open) or of the lap (closed),
+    /// metres; negative past the end.
+    pub distance_to_end: T,
+    /// The foot point itself.
+    pub foot: PathPoint<T>,
+    /// The path point `lookahead` metres beyond the foot point.
+    pub ahead: PathPoint<T>,
+    /// Where the control point is.
+    pub status: TrackStatus,
+}
+
+/// Projects a control point onto a path, one control cycle at a time.
+///
+/// ```
+/// use kappaline::{PathBuilder, Pose, Segment, TrackStatus, Tracker, TrackerConfig};
+/// # fn main() -> Result<(), Box<dyn core::error::Error>> {
+/// let path = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))?
+///     .push(Segment::line(100.0)?)?
+///     .build()?;
+/// let mut tracker = Tracker::new(TrackerConfig::field())?;
+/// // 0.25 m left of the path at station 40, heading 0.1 rad to the left.
+/// let t = tracker.update(&path, &Pose::new(40.0, 0.25, 0.1))?;
+/// assert_eq!(t.status, TrackStatus::OnPath);
+/// assert!((t.station - 40.0).abs() < 1e-12);
+/// assert!((t.cross_track - 0.25).abs() < 1e-12);
+/// assert!((t.heading_error - 0.1).abs() < 1e-12);
+/// # Ok(()) }
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Tracker<T> {
+    config: TrackerConfig<T>,
+    cursor: Cursor<T>,
+    acquired: bool,
+}
+
+impl<T: Real> Tracker<T> {
+    /// A tracker that will acquire the path on its first update.
+    ///
+    /// # Errors
+    /// [`TrackError::NonFinite`] or [`TrackError::OutOfRange`] for a bad
+    /// configuration (see [`TrackerConfig`] for the ranges).
+    pub fn new(config: TrackerConfig<T>) -> Result<Self, TrackError> {
+        config.check()?;
+        Ok(Self {
+            config,
+            cursor: Cursor::start(),
+            acquired: false,
+        })
+    }
+
+    /// The configuration in use.
+    pub fn config(&self) -> &TrackerConfig<T> {
+        &self.config
+    }
+
+    /// Changes the lookahead distance (e.g. scheduled with speed), metres.
+    ///
+    /// # Errors
+    /// [`TrackError::NonFinite`] or [`TrackError::OutOfRange`] (negative);
+    /// the tracker is unchanged on error.
+    pub fn set_lookahead(&mut self, lookahead: T) -> Result<(), TrackError> {
+        let mut cfg = self.config;
+        cfg.lookahead = lookahead;
+        cfg.check()?;
+        self.config = cfg;
+        Ok(())
+    }
+
+    /// `true` once an update has found the path.
+    pub fn is_acquired(&self) -> bool {
+        self.acquired
+    }
+
+    /// The cursor at the last good foot point.
+    pub fn cursor(&self) -> Cursor<T> {
+        self.cursor
+    }
+
+    /// Forgets the station: the next update searches the whole path.
+    pub fn reset(&mut self) {
+        self.acquired = false;
+    }
+
+    /// Projects `pose` (control point position in metres, body heading in
+    /// radians) onto `path` within the window around the last foot point, or
+    /// over the whole path if the tracker has not acquired it yet.
+    ///
+    /// # Errors
+    /// [`TrackError::NonFinite`] if the pose is not finite; the tracker is
+    /// unchanged.
+    pub fn update<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+    ) -> Result<Tracking<T>, TrackError> {
+        if !self.acquired {
+            return self.acquire(path, pose);
+        }
+        if !pose.is_finite() {
+            return Err(TrackError::NonFinite);
+        }
+        let foot = self.search_window(path, pose);
+        Ok(self.settle(path, pose, foot))
+    }
+
+    /// Searches the whole path for the control point (bounded by the path's
+    /// segment count) and, if found within `lost_distance`, moves there.
+    ///
+    /// # Errors
+    /// [`TrackError::NonFinite`] if the pose is not finite; the tracker is
+    /// unchanged.
+    pub fn acquire<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+    ) -> Result<Tracking<T>, TrackError> {
+        if !pose.is_finite() {
+            return Err(TrackError::NonFinite);
+        }
+        let foot = self.search_all(path, pose);
+        let result = self.settle(path, pose, foot);
+        if result.status != TrackStatus::Lost {
+            self.acquired = true;
+        }
+        Ok(result)
+    }
+
+    /// Turns a foot point into the tracking state, moving the cursor there
+    /// unless the point is lost.
+    fn settle<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        foot: Foot<T>,
+    ) -> Tracking<T> {
+        let cursor = Cursor::on(foot.segment, foot.offset);
+        let point = cursor.point(path);
+        let lateral = point.lateral_offset(pose.x, pose.y);
+        let along = point.along_offset(pose.x, pose.y);
+        let mut station = point.station;
+        let mut status = TrackStatus::OnPath;
+        // Beyond the ends of an open path the foot sticks to the end point;
+        // measure along and across its tangent instead.
+        let tiny = T::EPSILON * c(64.0) * (T::ONE + path.length());
+        if !path.is_closed() {
+            if station <= T::ZERO && along < -tiny {
+                station = along;
+                status = TrackStatus::BeforeStart;
+            } else if station >= path.length() && along > tiny {
+                station = path.length() + along;
+                status = TrackStatus::PastEnd;
+            }
+        }
+        let off_path = match status {
+            TrackStatus::OnPath => foot.dist2 > self.config.lost_distance * self.config.lost_distance,
+            _ => lateral.abs() > self.config.lost_distance,
+        };
+        if off_path {
+            status = TrackStatus::Lost;
+        } else {
+            self.cursor = cursor;
+        }
+        let ahead = cursor.moved(path, self.config.lookahead).0.point(path);
+        Tracking {
+            station,
+            cross_track: lateral,
+            heading_error: (pose.heading - point.body_heading()).wrap_angle(),
+            curvature: point.curvature,
+            curvature_ahead: ahead.curvature,
+            distance_to_end: path.length() - station,
+            foot: point,
+            ahead,
+            status,
+        }
+    }
+
+    /// Nearest point within the station window around the cursor.
+    fn search_window<const N: usize>(&self, path: &Path<T, N>, pose: &Pose<T>) -> Foot<T> {
+        let span = self.config.window_back + self.config.window_ahead;
+        if path.is_closed() && span >= path.length() {
+            return nearest_anywhere(path, pose.x, pose.y);
+        }
+        let (from, _) = self.cursor.moved(path, -self.config.window_back);
+        let (to, _) = self.cursor.moved(path, self.config.window_ahead);
+        let mut best: Option<Foot<T>> = None;
+        let mut seg = from.segment();
+        for _ in 0..MAX_WINDOW_SEGMENTS {
+            let lo = if seg == from.segment() { from.offset() } else { T::ZERO };
+            let last = seg == to.segment() && (seg != from.segment() || to.offset() >= lo);
+            let hi = if last { to.offset() } else { path.segment_length(seg) };
+            let f = nearest_on_segment(path, seg, lo, hi.max(lo), pose.x, pose.y);
+            if best.is_none_or(|b| f.dist2 < b.dist2) {
+                best = Some(f);
+            }
+            if last {
+                break;
+            }
+            seg = if seg + 1 < path.len() {
+                seg + 1
+            } else if path.is_closed() {
+                0
+            } else {
+                break;
+            };
+        }
+        best.unwrap_or(Foot {
+            segment: self.cursor.segment(),
+            offset: self.cursor.offset(),
+            dist2: T::ZERO,
+        })
+    }
+
+    /// Nearest point on the whole path, with the heading weight applied.
+    fn search_all<const N: usize>(&self, path: &Path<T, N>, pose: &Pose<T>) -> Foot<T> {
+        let w = self.config.heading_weight;
+        let (hs, hc) = pose.heading.sin_cos();
+        // Score = distance + w * |heading error|; the bounding circle bounds
+        // the distance part from below, which is enough to prune.
+        let mut best: Option<(T, Foot<T>)> = None;
+        for i in 0..path.len() {
+            let lower = lower_bound(path, i, pose.x, pose.y);
+            if let Some((score, _)) = best {
+                if lower > score {
+                    continue;
+                }
+            }
+            let f = nearest_on_segment(path, i, T::ZERO, path.segment_length(i), pose.x, pose.y);
+            let mut score = f.dist2.sqrt();
+            if w > T::ZERO {
+                let p = path.eval_in(i, f.offset);
+                let sign = p.direction.sign::<T>();
+                // Heading error from the unit vectors: atan2(cross, dot).
+                let cross = (p.cos * hs - p.sin * hc) * sign;
+                let dot = (p.cos * hc + p.sin * hs) * sign;
+                score += w * cross.atan2(dot).abs();
+            }
+            if best.is_none_or(|(s, _)| score < s) {
+                best = Some((score, f));
+            }
+        }
+        best.map(|(_, f)| f).unwrap_or(Foot {
+            segment: 0,
+            offset: T::ZERO,
+            dist2: T::ZERO,
+        })
+    }
+}
+
+/// Nearest point on the whole path by distance alone.
+fn nearest_anywhere<T: Real, const N: usize>(path: &Path<T, N>, qx: T, qy: T) -> Foot<T> {
+    let mut best: Option<Foot<T>> = None;
+    for i in 0..path.len() {
+        if let Some(b) = best {
+            let lower = lower_bound(path, i, qx, qy);
+            if lower > T::ZERO && lower * lower > b.dist2 {
+                continue;
+            }
+        }
+        let f = nearest_on_segment(path, i, T::ZERO, path.segment_length(i), qx, qy);
+        if best.is_none_or(|b| f.dist2 < b.dist2) {
+            best = Some(f);
+        }
+    }
+    best.unwrap_or(Foot {
+        segment: 0,
+        offset: T::ZERO,
+        dist2: T::ZERO,
+    })
+}
+
+/// A lower bound on the distance from `q` to segment `i`: every point of a
+/// curve of length `L` lies within `L/2` of the midpoint of its chord (the
+/// sum of its distances to the two ends is at most `L`).
+fn lower_bound<T: Real, const N: usize>(path: &Path<T, N>, i: usize, qx: T, qy: T) -> T {
+    let a = path.placed_at(i);
+    let len = path.segment_length(i);
+    let (bx, by) = path.segment_end(i);
+    let mx = T::HALF * (a.x + bx);
+    let my = T::HALF * (a.y + by);
+    let dx = qx - mx;
+    let dy = qy - my;
+    (dx * dx + dy * dy).sqrt() - T::HALF * len
+}
