@@ -1,0 +1,299 @@
+//! Range checks of a deserialised scenario; each failure names its field.
+
+use super::schema::*;
+
+type Check = Result<(), (String, String)>;
+
+fn fail(field: &str, msg: String) -> Check {
+    Err((field.to_string(), msg))
+}
+
+fn finite(field: &str, v: f64) -> Check {
+    if v.is_finite() {
+        Ok(())
+    } else {
+        fail(field, format!("must be a finite number, got {v}"))
+    }
+}
+
+fn positive(field: &str, v: f64) -> Check {
+    if v.is_finite() && v > 0.0 {
+        Ok(())
+    } else {
+        fail(field, format!("must be > 0, got {v}"))
+    }
+}
+
+fn non_negative(field: &str, v: f64) -> Check {
+    if v.is_finite() && v >= 0.0 {
+        Ok(())
+    } else {
+        fail(field, format!("must be >= 0, got {v}"))
+    }
+}
+
+fn within(field: &str, v: f64, lo: f64, hi: f64) -> Check {
+    if v.is_finite() && (lo..=hi).contains(&v) {
+        Ok(())
+    } else {
+        fail(field, format!("must lie in [{lo}, {hi}], got {v}"))
+    }
+}
+
+/// Status names a scenario may use.
+pub const STATUS_NAMES: [&str; 6] = [
+    "acquiring",
+    "following",
+    "degraded",
+    "lost",
+    "end_of_path",
+    "fault",
+];
+
+pub(super) fn check(s: &ScenarioFile) -> Check {
+    if s.name.trim().is_empty() {
+        return fail("name", "must not be empty".into());
+    }
+    if !s
+        .name
+        .chars()
+        .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
+    {
+        return fail(
+            "name",
+            format!("use letters, digits, '-' and '_' only, got {:?}", s.name),
+        );
+    }
+    positive("duration_s", s.duration_s)?;
+    within("physics_hz", s.physics_hz, 10.0, 100_000.0)?;
+    check_path(&s.path)?;
+    check_vehicle(&s.vehicle)?;
+    check_start(&s.start)?;
+    check_terrain(&s.terrain)?;
+    check_gnss(&s.gnss)?;
+    check_controller(&s.controller, s.physics_hz)?;
+    for (i, f) in s.faults.iter().enumerate() {
+        check_fault(&format!("faults[{i}]"), f)?;
+    }
+    check_metrics(&s.metrics)?;
+    check_thresholds(&s.thresholds)
+}
+
+fn check_path(p: &PathSpec) -> Check {
+    match p {
+        PathSpec::Segments { start, .. } => {
+            finite("path.start.x_m", start.x_m)?;
+            finite("path.start.y_m", start.y_m)?;
+            finite("path.start.heading_deg", start.heading_deg)
+        }
+    }
+}
+
+fn check_antenna(a: &AntennaSpec) -> Check {
+    finite("vehicle.antenna.ahead_m", a.ahead_m)?;
+    finite("vehicle.antenna.left_m", a.left_m)?;
+    within("vehicle.antenna.height_m", a.height_m, 0.0, 20.0)
+}
+
+fn check_vehicle(v: &VehicleSpec) -> Check {
+    match *v {
+        VehicleSpec::Bicycle {
+            wheelbase_m,
+            max_steer_deg,
+            max_steer_rate_deg_s,
+            steer_lag_s,
+            speed_lag_s,
+            max_accel_m_s2,
+            max_speed_m_s,
+            antenna,
+            control_point_ahead_m,
+        } => {
+            positive("vehicle.wheelbase_m", wheelbase_m)?;
+            if !(max_steer_deg > 0.0 && max_steer_deg < 89.0) {
+                return fail(
+                    "vehicle.max_steer_deg",
+                    format!("must lie in (0, 89) degrees, got {max_steer_deg}"),
+                );
+            }
+            positive("vehicle.max_steer_rate_deg_s", max_steer_rate_deg_s)?;
+            non_negative("vehicle.steer_lag_s", steer_lag_s)?;
+            non_negative("vehicle.speed_lag_s", speed_lag_s)?;
+            positive("vehicle.max_accel_m_s2", max_accel_m_s2)?;
+            positive("vehicle.max_speed_m_s", max_speed_m_s)?;
+            finite("vehicle.control_point_ahead_m", control_point_ahead_m)?;
+            check_antenna(&antenna)
+        }
+        VehicleSpec::Differential {
+            track_width_m,
+            wheel_lag_s,
+            max_accel_m_s2,
+            max_speed_m_s,
+            max_curvature_per_m,
+            max_curvature_rate_per_m_s,
+            antenna,
+            control_point_ahead_m,
+        } => {
+            positive("vehicle.track_width_m", track_width_m)?;
+            non_negative("vehicle.wheel_lag_s", wheel_lag_s)?;
+            positive("vehicle.max_accel_m_s2", max_accel_m_s2)?;
+            positive("vehicle.max_speed_m_s", max_speed_m_s)?;
+            positive("vehicle.max_curvature_per_m", max_curvature_per_m)?;
+            positive(
+                "vehicle.max_curvature_rate_per_m_s",
+                max_curvature_rate_per_m_s,
+            )?;
+            finite("vehicle.control_point_ahead_m", control_point_ahead_m)?;
+            check_antenna(&antenna)
+        }
+    }
+}
+
+fn check_start(s: &StartSpec) -> Check {
+    finite("start.ahead_m", s.ahead_m)?;
+    finite("start.left_m", s.left_m)?;
+    within("start.heading_deg", s.heading_deg, -180.0, 180.0)?;
+    finite("start.speed_m_s", s.speed_m_s)
+}
+
+fn check_terrain(t: &TerrainSpec) -> Check {
+    within("terrain.slope_x_deg", t.slope_x_deg, -45.0, 45.0)?;
+    within("terrain.slope_y_deg", t.slope_y_deg, -45.0, 45.0)?;
+    non_negative("terrain.wave_amplitude_m", t.wave_amplitude_m)?;
+    if t.wave_amplitude_m > 0.0 {
+        positive("terrain.wave_length_m", t.wave_length_m)?;
+    } else {
+        non_negative("terrain.wave_length_m", t.wave_length_m)?;
+    }
+    within("terrain.crab_gain", t.crab_gain, 0.0, 10.0)?;
+    within("terrain.crab_deg", t.crab_deg, -30.0, 30.0)
+}
+
+fn check_gnss(g: &GnssSpec) -> Check {
+    within("gnss.rate_hz", g.rate_hz, 0.1, 1000.0)?;
+    within("gnss.latency_s", g.latency_s, 0.0, 5.0)?;
+    non_negative("gnss.noise_m", g.noise_m)?;
+    non_negative("gnss.bias_sigma_m", g.bias_sigma_m)?;
+    positive("gnss.bias_tau_s", g.bias_tau_s)?;
+    non_negative("gnss.speed_noise_m_s", g.speed_noise_m_s)?;
+    non_negative("gnss.heading_noise_deg", g.heading_noise_deg)?;
+    finite("gnss.heading_bias_deg", g.heading_bias_deg)?;
+    non_negative("gnss.roll_noise_deg", g.roll_noise_deg)?;
+    finite("gnss.roll_bias_deg", g.roll_bias_deg)
+}
+
+fn check_controller(c: &ControllerSpec, physics_hz: f64) -> Check {
+    within("controller.rate_hz", c.rate_hz, 1.0, physics_hz)?;
+    let steps = physics_hz / c.rate_hz;
+    if (steps - steps.round()).abs() > 1e-9 {
+        return fail(
+            "controller.rate_hz",
+            format!(
+                "must divide physics_hz ({physics_hz}) evenly, got {}",
+                c.rate_hz
+            ),
+        );
+    }
+    positive("controller.speed_m_s", c.speed_m_s)?;
+    match c.law {
+        LawSpec::PurePursuit { lookahead_m } => {
+            positive("controller.law.lookahead_m", lookahead_m)?
+        }
+        LawSpec::Stanley {
+            gain_per_s,
+            softening_m_s,
+        } => {
+            positive("controller.law.gain_per_s", gain_per_s)?;
+            non_negative("controller.law.softening_m_s", softening_m_s)?;
+        }
+        LawSpec::Frenet {
+            cross_track_gain_per_m2,
+            heading_gain_per_m,
+        } => {
+            positive(
+                "controller.law.cross_track_gain_per_m2",
+                cross_track_gain_per_m2,
+            )?;
+            positive("controller.law.heading_gain_per_m", heading_gain_per_m)?;
+        }
+    }
+    let t = &c.tracker;
+    non_negative("controller.tracker.window_back_m", t.window_back_m)?;
+    positive("controller.tracker.window_ahead_m", t.window_ahead_m)?;
+    positive("controller.tracker.lost_distance_m", t.lost_distance_m)?;
+    non_negative("controller.tracker.lookahead_m", t.lookahead_m)?;
+    non_negative("controller.tracker.heading_weight_m", t.heading_weight_m)
+}
+
+fn check_fault(field: &str, f: &FaultSpec) -> Check {
+    let (at, dur) = match *f {
+        FaultSpec::GnssDropout { at_s, duration_s }
+        | FaultSpec::SteerStuck { at_s, duration_s } => (at_s, duration_s),
+        FaultSpec::GnssJump {
+            at_s,
+            duration_s,
+            east_m,
+            north_m,
+        } => {
+            finite(&format!("{field}.east_m"), east_m)?;
+            finite(&format!("{field}.north_m"), north_m)?;
+            (at_s, duration_s)
+        }
+    };
+    non_negative(&format!("{field}.at_s"), at)?;
+    positive(&format!("{field}.duration_s"), dur)
+}
+
+fn check_metrics(m: &MetricsSpec) -> Check {
+    finite("metrics.point_ahead_m", m.point_ahead_m)?;
+    non_negative("metrics.straight_entry_skip_m", m.straight_entry_skip_m)?;
+    positive("metrics.settle_band_m", m.settle_band_m)?;
+    non_negative("metrics.settle_hold_m", m.settle_hold_m)?;
+    within("metrics.record_hz", m.record_hz, 0.1, 10_000.0)
+}
+
+fn check_thresholds(t: &ThresholdSpec) -> Check {
+    let limits = [
+        ("thresholds.straight_rms_m", t.straight_rms_m),
+        ("thresholds.straight_p95_m", t.straight_p95_m),
+        ("thresholds.straight_max_m", t.straight_max_m),
+        ("thresholds.curved_rms_m", t.curved_rms_m),
+        ("thresholds.overall_max_m", t.overall_max_m),
+        ("thresholds.heading_rms_deg", t.heading_rms_deg),
+        ("thresholds.settle_distance_m", t.settle_distance_m),
+        ("thresholds.max_lost_s", t.max_lost_s),
+    ];
+    for (field, v) in limits {
+        if let Some(v) = v {
+            non_negative(field, v)?;
+        }
+    }
+    if let Some(c) = t.min_completion {
+        within("thresholds.min_completion", c, 0.0, 1000.0)?;
+    }
+    for (i, e) in t.expect_status.iter().enumerate() {
+        let f = format!("thresholds.expect_status[{i}]");
+        status_name(&format!("{f}.status"), &e.status)?;
+        non_negative(&format!("{f}.from_s"), e.from_s)?;
+        if !(e.until_s.is_finite() && e.until_s >= e.from_s) {
+            return fail(
+                &format!("{f}.until_s"),
+                format!("must be >= from_s ({}), got {}", e.from_s, e.until_s),
+            );
+        }
+    }
+    for (i, s) in t.forbid_status.iter().enumerate() {
+        status_name(&format!("thresholds.forbid_status[{i}]"), s)?;
+    }
+    Ok(())
+}
+
+fn status_name(field: &str, s: &str) -> Check {
+    if STATUS_NAMES.contains(&s) {
+        Ok(())
+    } else {
+        fail(
+            field,
+            format!("unknown status {s:?}, expected one of {STATUS_NAMES:?}"),
+        )
+    }
+}
