@@ -79,3 +79,20 @@ pub use pose::{Direction, PathPoint, Pose};
 pub use real::Real;
 pub use segment::{Segment, SegmentKind};
 pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS};
+
+// Path building (issue 4).
+mod corner;
+mod feasibility;
+mod headland;
+mod lever_arm;
+mod passes;
+
+pub use corner::{corner_path, Corner, CornerConfig, CornerError, TurnShape};
+pub use feasibility::{check_path, FeasibilityReport, PathLimits, Violation, ViolationKind};
+pub use headland::{
+    FieldEnd, HeadlandError, HeadlandTurn, TurnKind, TurnPolicy, MAX_TURN_SEGMENTS,
+};
+pub use lever_arm::{control_point, ControlPoint, LeverArm, LeverArmError};
+pub use passes::{
+    offset_curvature, reversed_path, Pass, PassError, PassPoint, PassTracking, Passes, Side,
+};
