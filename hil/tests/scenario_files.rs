@@ -59,33 +59,47 @@ fn wrong_type_is_named() {
     assert_eq!(e.field(), "gnss.noise_m", "{e}");
 }
 
+const HIGHSPEED: &str = include_str!("../scenarios/highspeed.toml");
+const WAREHOUSE: &str = include_str!("../scenarios/warehouse.toml");
+
 #[test]
 fn path_that_does_not_validate_is_refused_naming_the_segment() {
     // A zero-length segment.
-    let text = FIELD.replacen(
-        "{ type = \"line\", length_m = 120.0 }",
+    let text = HIGHSPEED.replacen(
+        "{ type = \"line\", length_m = 400.0 }",
         "{ type = \"line\", length_m = 0.0 }",
         1,
     );
     let e = refuse(&text);
     assert_eq!(e.field(), "path.segments[0]", "{e}");
-    // A loop that does not close.
-    let loop_text = include_str!("../scenarios/warehouse.toml").replacen(
-        "length_m = 22.4",
-        "length_m = 21.0",
-        1,
-    );
-    let e = refuse(&loop_text);
-    assert_eq!(e.field(), "path.closed", "{e}");
     // A NaN curvature.
-    let text = FIELD.replacen("curvature_end_per_m = 0.2", "curvature_end_per_m = nan", 1);
+    let text = HIGHSPEED.replacen("curvature_start_per_m = 0.0", "curvature_start_per_m = nan", 1);
     let e = refuse(&text);
     assert_eq!(e.field(), "path.segments[1]", "{e}");
+    // A loop that does not close.
+    let text = WAREHOUSE.replacen("length_m = 22.4", "length_m = 21.0", 1);
+    let e = refuse(&text);
+    assert_eq!(e.field(), "path.closed", "{e}");
+    // A field with no passes, and with a negative swath.
+    let e = refuse(&FIELD.replace("passes = 4", "passes = 0"));
+    assert_eq!(e.field(), "path.passes", "{e}");
+    let e = refuse(&FIELD.replace("swath_m = 12.0", "swath_m = -12.0"));
+    assert_eq!(e.field(), "path.swath_m", "{e}");
+    // Waypoints whose legs are too short for the corner radius.
+    let text = HIGHSPEED.replace(
+        "kind = \"segments\"",
+        "kind = \"waypoints\"\npoints_m = [[0.0, 0.0], [2.0, 0.0], [2.0, 2.0]]\ncorner_radius_m = 10.0",
+    );
+    let a = text.find("start = {").unwrap();
+    let b = text.find("[vehicle]").unwrap();
+    let text = format!("{}{}", &text[..a], &text[b..]);
+    let e = refuse(&text);
+    assert_eq!(e.field(), "path.points_m", "{e}");
 }
 
 #[test]
 fn unknown_segment_type_and_bad_status_names_are_named() {
-    let text = FIELD.replacen("type = \"line\"", "type = \"spline\"", 1);
+    let text = HIGHSPEED.replacen("type = \"line\"", "type = \"spline\"", 1);
     let msg = refuse(&text).to_string();
     assert!(msg.contains("spline"), "{msg}");
     let text = FIELD.replace(

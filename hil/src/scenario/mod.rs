@@ -7,11 +7,12 @@
 
 pub mod builtin;
 pub mod schema;
+pub mod paths;
 mod validate;
 
 use std::sync::Arc;
 
-use kappaline::{Direction, Path, PathBuilder, Pose, Segment};
+use kappaline::{Path, Pose};
 
 pub use schema::*;
 
@@ -62,8 +63,6 @@ pub struct Scenario {
     pub spec: ScenarioFile,
     /// The reference path.
     pub path: Arc<HostPath>,
-    /// Its segments in order (to build the controller's own copy).
-    pub segments: Vec<Segment<f64>>,
     /// Its start pose.
     pub start: Pose<f64>,
 }
@@ -116,12 +115,11 @@ impl Scenario {
             message,
         };
         validate::check(&spec).map_err(invalid)?;
-        let (start, segments) = segments_of(&spec.path).map_err(invalid)?;
-        let path = build_path(&spec.path, start, &segments).map_err(invalid)?;
+        let path = paths::build(&spec.path).map_err(invalid)?;
+        let start = path.anchor(0).unwrap_or_default();
         Ok(Self {
             spec,
             path: Arc::new(path),
-            segments,
             start,
         })
     }
@@ -142,109 +140,3 @@ fn line_of(text: &str, span: Option<std::ops::Range<usize>>) -> String {
     }
 }
 
-type FieldError = (String, String);
-
-fn segments_of(path: &PathSpec) -> Result<(Pose<f64>, Vec<Segment<f64>>), FieldError> {
-    match path {
-        PathSpec::Segments {
-            start, segments, ..
-        } => {
-            let pose = Pose::new(start.x_m, start.y_m, start.heading_deg.to_radians());
-            if segments.is_empty() {
-                return Err(("path.segments".into(), "needs at least one segment".into()));
-            }
-            let mut out = Vec::with_capacity(segments.len());
-            for (i, s) in segments.iter().enumerate() {
-                let field = format!("path.segments[{i}]");
-                out.push(segment_of(s).map_err(|m| (field, m))?);
-            }
-            Ok((pose, out))
-        }
-    }
-}
-
-fn segment_of(s: &SegmentSpec) -> Result<Segment<f64>, String> {
-    let dir = |reverse: bool| {
-        if reverse {
-            Direction::Reverse
-        } else {
-            Direction::Forward
-        }
-    };
-    let seg = match *s {
-        SegmentSpec::Line { length_m, reverse } => Segment::line(length_m)
-            .map_err(|e| format!("length_m: {e}"))?
-            .with_direction(dir(reverse)),
-        SegmentSpec::Arc {
-            length_m,
-            radius_m,
-            reverse,
-        } => {
-            if radius_m == 0.0 || !radius_m.is_finite() {
-                return Err(format!(
-                    "radius_m: must be finite and non-zero, got {radius_m}"
-                ));
-            }
-            Segment::arc(length_m, 1.0 / radius_m)
-                .map_err(|e| format!("length_m: {e}"))?
-                .with_direction(dir(reverse))
-        }
-        SegmentSpec::Turn {
-            angle_deg,
-            radius_m,
-        } => {
-            if !(radius_m > 0.0 && radius_m.is_finite()) {
-                return Err(format!("radius_m: must be > 0, got {radius_m}"));
-            }
-            if !(angle_deg != 0.0 && angle_deg.is_finite()) {
-                return Err(format!(
-                    "angle_deg: must be finite and non-zero, got {angle_deg}"
-                ));
-            }
-            let len = angle_deg.to_radians().abs() * radius_m;
-            Segment::arc(len, angle_deg.signum() / radius_m).map_err(|e| e.to_string())?
-        }
-        SegmentSpec::Clothoid {
-            length_m,
-            curvature_start_per_m,
-            curvature_end_per_m,
-            reverse,
-        } => Segment::transition(length_m, curvature_start_per_m, curvature_end_per_m)
-            .map_err(|e| format!("{e}"))?
-            .with_direction(dir(reverse)),
-    };
-    Ok(seg)
-}
-
-fn build_path(
-    spec: &PathSpec,
-    start: Pose<f64>,
-    segments: &[Segment<f64>],
-) -> Result<HostPath, FieldError> {
-    let closed = matches!(spec, PathSpec::Segments { closed: true, .. });
-    if segments.len() > MAX_SEGMENTS {
-        return Err((
-            "path.segments".into(),
-            format!("{} segments, at most {MAX_SEGMENTS}", segments.len()),
-        ));
-    }
-    let mut b = PathBuilder::<f64, MAX_SEGMENTS>::new(start)
-        .map_err(|e| ("path.start".to_string(), e.to_string()))?;
-    for (i, s) in segments.iter().enumerate() {
-        b.try_push(*s)
-            .map_err(|e| (format!("path.segments[{i}]"), e.to_string()))?;
-    }
-    let result = if closed {
-        b.close(kappaline::Continuity::DEFAULT)
-    } else {
-        b.build()
-    };
-    result.map_err(|e| {
-        let field = if closed {
-            "path.closed".to_string()
-        } else {
-            "path.segments".to_string()
-        };
-        (field, format!("path does not validate: {e}"))
-    })
-}

@@ -77,6 +77,51 @@ pub enum PathSpec {
         /// The segments in order.
         segments: Vec<SegmentSpec>,
     },
+    /// A field: parallel straight passes of an A-B line joined by headland
+    /// turns (built by the core's pass and headland-turn builders).
+    Field {
+        /// Start of the first pass (the A point) and the A-B heading.
+        start: PoseSpec,
+        /// Length of each pass, metres.
+        pass_length_m: f64,
+        /// Swath width (spacing of the passes), metres.
+        swath_m: f64,
+        /// Number of passes.
+        passes: u32,
+        /// Side on which the next pass lies.
+        #[serde(default)]
+        turn_side: TurnSide,
+        /// Largest curvature of the turns, 1/m.
+        turn_max_curvature_per_m: f64,
+        /// Largest sharpness of the turns, 1/m^2 (absent: plain arcs).
+        #[serde(default)]
+        turn_max_sharpness_per_m2: Option<f64>,
+        /// Turns may reverse when a U-turn does not fit.
+        #[serde(default)]
+        allow_reverse: bool,
+    },
+    /// A route through waypoints with clothoid-arc-clothoid corners (built
+    /// by the core's corner builder).
+    Waypoints {
+        /// The points, metres, as `[east, north]` pairs.
+        points_m: Vec<[f64; 2]>,
+        /// Radius of the corner arcs, metres.
+        corner_radius_m: f64,
+        /// Sharpness of the corner clothoids, 1/m^2 (absent: plain arcs).
+        #[serde(default)]
+        corner_max_sharpness_per_m2: Option<f64>,
+    },
+}
+
+/// Which side the next pass of a field lies on.
+#[derive(Debug, Clone, Copy, Deserialize, PartialEq, Eq, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum TurnSide {
+    /// To the left of the first pass's direction.
+    #[default]
+    Left,
+    /// To the right.
+    Right,
 }
 
 /// One path segment.

@@ -79,12 +79,56 @@ pub(super) fn check(s: &ScenarioFile) -> Check {
     check_thresholds(&s.thresholds)
 }
 
+fn check_start_pose(start: &PoseSpec) -> Check {
+    finite("path.start.x_m", start.x_m)?;
+    finite("path.start.y_m", start.y_m)?;
+    finite("path.start.heading_deg", start.heading_deg)
+}
+
 fn check_path(p: &PathSpec) -> Check {
     match p {
-        PathSpec::Segments { start, .. } => {
-            finite("path.start.x_m", start.x_m)?;
-            finite("path.start.y_m", start.y_m)?;
-            finite("path.start.heading_deg", start.heading_deg)
+        PathSpec::Segments { start, .. } => check_start_pose(start),
+        PathSpec::Field {
+            start,
+            pass_length_m,
+            swath_m,
+            passes,
+            turn_max_curvature_per_m,
+            turn_max_sharpness_per_m2,
+            ..
+        } => {
+            check_start_pose(start)?;
+            positive("path.pass_length_m", *pass_length_m)?;
+            positive("path.swath_m", *swath_m)?;
+            if !(1..=100).contains(passes) {
+                return fail("path.passes", format!("must lie in [1, 100], got {passes}"));
+            }
+            positive("path.turn_max_curvature_per_m", *turn_max_curvature_per_m)?;
+            if let Some(s) = turn_max_sharpness_per_m2 {
+                positive("path.turn_max_sharpness_per_m2", *s)?;
+            }
+            Ok(())
+        }
+        PathSpec::Waypoints {
+            points_m,
+            corner_radius_m,
+            corner_max_sharpness_per_m2,
+        } => {
+            if points_m.len() < 2 {
+                return fail(
+                    "path.points_m",
+                    format!("needs at least 2 points, got {}", points_m.len()),
+                );
+            }
+            for (i, p) in points_m.iter().enumerate() {
+                finite(&format!("path.points_m[{i}]"), p[0])?;
+                finite(&format!("path.points_m[{i}]"), p[1])?;
+            }
+            positive("path.corner_radius_m", *corner_radius_m)?;
+            if let Some(s) = corner_max_sharpness_per_m2 {
+                positive("path.corner_max_sharpness_per_m2", *s)?;
+            }
+            Ok(())
         }
     }
 }
