@@ -194,6 +194,12 @@ pub enum VehicleSpec {
         /// Point the controller steers, metres ahead of the rear axle.
         #[serde(default)]
         control_point_ahead_m: f64,
+        /// Lateral acceleration the speed cap allows, m/s^2.
+        #[serde(default = "default_lat")]
+        max_lateral_accel_m_s2: f64,
+        /// Deceleration the speed cap plans with, m/s^2.
+        #[serde(default = "default_accel")]
+        max_decel_m_s2: f64,
     },
     /// Differential drive.
     Differential {
@@ -215,6 +221,12 @@ pub enum VehicleSpec {
         /// Point the controller steers, metres ahead of the axle centre.
         #[serde(default)]
         control_point_ahead_m: f64,
+        /// Lateral acceleration the speed cap allows, m/s^2.
+        #[serde(default = "default_lat")]
+        max_lateral_accel_m_s2: f64,
+        /// Deceleration the speed cap plans with, m/s^2.
+        #[serde(default = "default_accel")]
+        max_decel_m_s2: f64,
     },
 }
 
@@ -223,6 +235,9 @@ fn default_speed_lag() -> f64 {
 }
 fn default_accel() -> f64 {
     1.0
+}
+fn default_lat() -> f64 {
+    1.5
 }
 
 /// Antenna position on the body.
@@ -335,6 +350,24 @@ pub struct ControllerSpec {
     /// Projection settings.
     #[serde(default)]
     pub tracker: TrackerSpec,
+    /// Supervisor limits.
+    #[serde(default)]
+    pub supervisor: SupervisorSpec,
+    /// Numeric type of the controller: `f32` (as on a microcontroller with
+    /// a single-precision FPU) or `f64`.
+    #[serde(default)]
+    pub precision: Precision,
+}
+
+/// Numeric type the controller runs in.
+#[derive(Debug, Clone, Copy, Deserialize, PartialEq, Eq, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum Precision {
+    /// Single precision.
+    #[default]
+    F32,
+    /// Double precision.
+    F64,
 }
 
 fn yes() -> bool {
@@ -345,30 +378,80 @@ fn yes() -> bool {
 #[derive(Debug, Clone, Copy, Deserialize, PartialEq)]
 #[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
 pub enum LawSpec {
-    /// Pure pursuit.
+    /// Pure pursuit with lookahead `clamp(base + time * v, min, max)`.
     PurePursuit {
-        /// Lookahead distance, metres.
-        lookahead_m: f64,
+        /// Lookahead at standstill, metres.
+        lookahead_base_m: f64,
+        /// Lookahead growth with speed, s.
+        #[serde(default)]
+        lookahead_time_s: f64,
+        /// Smallest lookahead, metres.
+        lookahead_min_m: f64,
+        /// Largest lookahead, metres.
+        lookahead_max_m: f64,
     },
-    /// Stanley.
+    /// Stanley with softening.
     Stanley {
         /// Cross-track gain, 1/s.
         gain_per_s: f64,
         /// Softening speed, m/s.
         #[serde(default = "default_soft")]
         softening_m_s: f64,
+        /// Wheelbase assumed for a differential drive, metres.
+        #[serde(default = "default_virtual_wheelbase")]
+        virtual_wheelbase_m: f64,
     },
-    /// Frenet-frame feedback with curvature feedforward.
+    /// Frenet-frame (chained-form) feedback with curvature feedforward.
     Frenet {
         /// Cross-track gain, 1/m^2.
         cross_track_gain_per_m2: f64,
         /// Heading gain, 1/m.
         heading_gain_per_m: f64,
+        /// Integral gain, 1/m^3 (absent: no integral term).
+        #[serde(default)]
+        integral_gain_per_m3: Option<f64>,
+        /// Integral output limit, 1/m.
+        #[serde(default = "default_integral_limit")]
+        integral_limit_per_m: f64,
+        /// |cross-track| band within which it integrates, metres.
+        #[serde(default = "default_integral_band")]
+        integral_band_m: f64,
     },
 }
 
 fn default_soft() -> f64 {
     1.0
+}
+fn default_virtual_wheelbase() -> f64 {
+    0.5
+}
+fn default_integral_limit() -> f64 {
+    0.02
+}
+fn default_integral_band() -> f64 {
+    0.3
+}
+
+/// Supervisor limits; each absent one keeps the core's default for the vehicle.
+#[derive(Debug, Clone, Copy, Deserialize, PartialEq, Default)]
+#[serde(deny_unknown_fields)]
+pub struct SupervisorSpec {
+    /// A fix older than this is stale, s.
+    pub max_fix_age_s: Option<f64>,
+    /// How long the last command is held without a usable fix, s.
+    pub hold_time_s: Option<f64>,
+    /// Largest cross-track error steered back from, metres.
+    pub max_cross_track_m: Option<f64>,
+    /// Largest heading error steered back from, degrees.
+    pub max_heading_error_deg: Option<f64>,
+    /// Largest disagreement of a fix with dead reckoning, metres.
+    pub max_jump_m: Option<f64>,
+    /// Growth of that tolerance with time since the last good fix, m/s.
+    pub jump_growth_m_s: Option<f64>,
+    /// Consistent fixes needed to re-acquire.
+    pub confirm_fixes: Option<u32>,
+    /// Distance before the end of an open path that counts as arrived, metres.
+    pub end_tolerance_m: Option<f64>,
 }
 
 /// Projection window and loss settings (see `kappaline::TrackerConfig`).

@@ -151,6 +151,8 @@ fn check_vehicle(v: &VehicleSpec) -> Check {
             max_speed_m_s,
             antenna,
             control_point_ahead_m,
+            max_lateral_accel_m_s2,
+            max_decel_m_s2,
         } => {
             positive("vehicle.wheelbase_m", wheelbase_m)?;
             if !(max_steer_deg > 0.0 && max_steer_deg < 89.0) {
@@ -165,6 +167,8 @@ fn check_vehicle(v: &VehicleSpec) -> Check {
             positive("vehicle.max_accel_m_s2", max_accel_m_s2)?;
             positive("vehicle.max_speed_m_s", max_speed_m_s)?;
             finite("vehicle.control_point_ahead_m", control_point_ahead_m)?;
+            positive("vehicle.max_lateral_accel_m_s2", max_lateral_accel_m_s2)?;
+            positive("vehicle.max_decel_m_s2", max_decel_m_s2)?;
             check_antenna(&antenna)
         }
         VehicleSpec::Differential {
@@ -176,6 +180,8 @@ fn check_vehicle(v: &VehicleSpec) -> Check {
             max_curvature_rate_per_m_s,
             antenna,
             control_point_ahead_m,
+            max_lateral_accel_m_s2,
+            max_decel_m_s2,
         } => {
             positive("vehicle.track_width_m", track_width_m)?;
             non_negative("vehicle.wheel_lag_s", wheel_lag_s)?;
@@ -187,6 +193,8 @@ fn check_vehicle(v: &VehicleSpec) -> Check {
                 max_curvature_rate_per_m_s,
             )?;
             finite("vehicle.control_point_ahead_m", control_point_ahead_m)?;
+            positive("vehicle.max_lateral_accel_m_s2", max_lateral_accel_m_s2)?;
+            positive("vehicle.max_decel_m_s2", max_decel_m_s2)?;
             check_antenna(&antenna)
         }
     }
@@ -239,26 +247,80 @@ fn check_controller(c: &ControllerSpec, physics_hz: f64) -> Check {
     }
     positive("controller.speed_m_s", c.speed_m_s)?;
     match c.law {
-        LawSpec::PurePursuit { lookahead_m } => {
-            positive("controller.law.lookahead_m", lookahead_m)?
+        LawSpec::PurePursuit {
+            lookahead_base_m,
+            lookahead_time_s,
+            lookahead_min_m,
+            lookahead_max_m,
+        } => {
+            non_negative("controller.law.lookahead_base_m", lookahead_base_m)?;
+            non_negative("controller.law.lookahead_time_s", lookahead_time_s)?;
+            positive("controller.law.lookahead_min_m", lookahead_min_m)?;
+            if !(lookahead_max_m.is_finite() && lookahead_max_m >= lookahead_min_m) {
+                return fail(
+                    "controller.law.lookahead_max_m",
+                    format!("must be >= lookahead_min_m ({lookahead_min_m}), got {lookahead_max_m}"),
+                );
+            }
         }
         LawSpec::Stanley {
             gain_per_s,
             softening_m_s,
+            virtual_wheelbase_m,
         } => {
             positive("controller.law.gain_per_s", gain_per_s)?;
-            non_negative("controller.law.softening_m_s", softening_m_s)?;
+            positive("controller.law.softening_m_s", softening_m_s)?;
+            positive("controller.law.virtual_wheelbase_m", virtual_wheelbase_m)?;
         }
         LawSpec::Frenet {
             cross_track_gain_per_m2,
             heading_gain_per_m,
+            integral_gain_per_m3,
+            integral_limit_per_m,
+            integral_band_m,
         } => {
             positive(
                 "controller.law.cross_track_gain_per_m2",
                 cross_track_gain_per_m2,
             )?;
             positive("controller.law.heading_gain_per_m", heading_gain_per_m)?;
+            if let Some(k_i) = integral_gain_per_m3 {
+                let top = cross_track_gain_per_m2 * heading_gain_per_m;
+                if !(k_i > 0.0 && k_i < top) {
+                    return fail(
+                        "controller.law.integral_gain_per_m3",
+                        format!("must lie in (0, cross_track_gain * heading_gain = {top}) for stability, got {k_i}"),
+                    );
+                }
+                positive("controller.law.integral_limit_per_m", integral_limit_per_m)?;
+                positive("controller.law.integral_band_m", integral_band_m)?;
+            }
         }
+    }
+    let sv = &c.supervisor;
+    let opt = |field: &str, v: Option<f64>, strict: bool| -> Check {
+        match v {
+            Some(v) if strict => positive(field, v),
+            Some(v) => non_negative(field, v),
+            None => Ok(()),
+        }
+    };
+    opt("controller.supervisor.max_fix_age_s", sv.max_fix_age_s, true)?;
+    opt("controller.supervisor.hold_time_s", sv.hold_time_s, false)?;
+    opt("controller.supervisor.max_cross_track_m", sv.max_cross_track_m, true)?;
+    if let Some(h) = sv.max_heading_error_deg {
+        if !(h > 0.0 && h <= 180.0) {
+            return fail(
+                "controller.supervisor.max_heading_error_deg",
+                format!("must lie in (0, 180], got {h}"),
+            );
+        }
+    }
+    opt("controller.supervisor.max_jump_m", sv.max_jump_m, true)?;
+    opt("controller.supervisor.jump_growth_m_s", sv.jump_growth_m_s, false)?;
+    opt("controller.supervisor.end_tolerance_m", sv.end_tolerance_m, false)?;
+    if sv.confirm_fixes == Some(0) {
+        return fail("controller.supervisor.confirm_fixes", "must be >= 1, got 0".into());
     }
     let t = &c.tracker;
     non_negative("controller.tracker.window_back_m", t.window_back_m)?;

@@ -1,0 +1,346 @@
+//! The controller under test, driven exactly as firmware drives it: each
+//! control cycle the newest receiver epoch (antenna position, heading,
+//! speed, roll) is turned into the control point with the core's lever-arm
+//! correction ([`kappaline::control_point`]), handed to
+//! [`kappaline::Guidance::step`] as a [`kappaline::Fix`], and the command's
+//! steering angle (or wheel speeds) and speed limit go to the actuators.
+//!
+//! The controller runs in `f32` by default, as on a microcontroller with a
+//! single-precision FPU, on its own copy of the path rebuilt from the host
+//! path's anchors; the harness measures in `f64` against the host path.
+
+use kappaline::{
+    control_point, AnchoredSegment, Continuity, Fix, FrenetFeedback, Guidance,
+    GuidanceInput, GuidanceStatus, LeverArm, Path, PurePursuit, Real, Segment, Stanley,
+    SteeringLaw, SupervisorConfig, TrackerConfig, Vehicle,
+};
+
+use crate::firmware::{Actuation, Cycle, Firmware, SupervisorStatus};
+use crate::scenario::{HostPath, LawSpec, Precision, Scenario, VehicleSpec, MAX_SEGMENTS};
+use crate::sim::{Drive, Measurement};
+
+/// A [`Guidance`] with its path, lever arm and speed set-point: one
+/// machine's firmware.
+pub struct GuidanceFirmware<T: Real, L> {
+    guidance: Guidance<T, L>,
+    path: Path<T, MAX_SEGMENTS>,
+    arm: LeverArm<T>,
+    terrain_compensation: bool,
+    speed_set: f64,
+    differential: bool,
+    last: Option<Measurement>,
+    last_fix: Option<Fix<T>>,
+}
+
+fn steer_err(field: &str) -> impl Fn(kappaline::SteerError) -> anyhow::Error + '_ {
+    move |e| anyhow::anyhow!("{field}: refused by the core: {e:?}")
+}
+
+/// The path in the controller's number type, from the host path's anchors.
+///
+/// # Errors
+/// If the core refuses the converted path.
+pub fn convert_path<T: Real>(host: &HostPath) -> anyhow::Result<Path<T, MAX_SEGMENTS>> {
+    let mut parts = Vec::with_capacity(host.len());
+    for i in 0..host.len() {
+        let (Some(seg), Some(a)) = (host.segment(i), host.anchor(i)) else {
+            anyhow::bail!("path: segment {i} missing");
+        };
+        let s = Segment::clothoid(
+            T::from_f64(seg.length()),
+            T::from_f64(seg.kappa0()),
+            T::from_f64(seg.sigma()),
+        )
+        .map_err(|e| anyhow::anyhow!("path segment {i}: {e}"))?
+        .with_direction(seg.direction());
+        parts.push(AnchoredSegment {
+            segment: s,
+            start: kappaline::Pose::new(T::from_f64(a.x), T::from_f64(a.y), T::from_f64(a.heading)),
+        });
+    }
+    // f32 anchors round to about 1e-5 m over a few hundred metres.
+    let tol = Continuity {
+        position: 1e-3,
+        heading: 1e-3,
+    };
+    Path::from_anchored(&parts, tol, host.is_closed())
+        .map_err(|e| anyhow::anyhow!("path in controller precision: {e}"))
+}
+
+/// The core's vehicle description of the scenario's machine.
+///
+/// # Errors
+/// If the core refuses a value (the field is named).
+pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
+    let f = T::from_f64;
+    let vehicle = match *v {
+        VehicleSpec::Bicycle {
+            wheelbase_m,
+            max_steer_deg,
+            max_steer_rate_deg_s,
+            max_speed_m_s,
+            control_point_ahead_m,
+            max_lateral_accel_m_s2,
+            max_decel_m_s2,
+            ..
+        } => Vehicle::front_steered(
+            f(wheelbase_m),
+            f(max_steer_deg.to_radians()),
+            f(max_steer_rate_deg_s.to_radians()),
+        )
+        .map_err(steer_err("vehicle"))?
+        .with_control_point(f(control_point_ahead_m))
+        .map_err(steer_err("vehicle.control_point_ahead_m"))?
+        .with_max_speed(f(max_speed_m_s))
+        .map_err(steer_err("vehicle.max_speed_m_s"))?
+        .with_max_lateral_acceleration(f(max_lateral_accel_m_s2))
+        .map_err(steer_err("vehicle.max_lateral_accel_m_s2"))?
+        .with_max_deceleration(f(max_decel_m_s2))
+        .map_err(steer_err("vehicle.max_decel_m_s2"))?,
+        VehicleSpec::Differential {
+            track_width_m,
+            max_speed_m_s,
+            max_curvature_per_m,
+            max_curvature_rate_per_m_s,
+            control_point_ahead_m,
+            max_lateral_accel_m_s2,
+            max_decel_m_s2,
+            ..
+        } => Vehicle::differential(
+            f(track_width_m),
+            f(max_curvature_per_m),
+            f(max_curvature_rate_per_m_s),
+        )
+        .map_err(steer_err("vehicle"))?
+        .with_control_point(f(control_point_ahead_m))
+        .map_err(steer_err("vehicle.control_point_ahead_m"))?
+        .with_max_speed(f(max_speed_m_s))
+        .map_err(steer_err("vehicle.max_speed_m_s"))?
+        .with_max_lateral_acceleration(f(max_lateral_accel_m_s2))
+        .map_err(steer_err("vehicle.max_lateral_accel_m_s2"))?
+        .with_max_deceleration(f(max_decel_m_s2))
+        .map_err(steer_err("vehicle.max_decel_m_s2"))?,
+    };
+    Ok(vehicle)
+}
+
+fn supervisor_of<T: Real>(s: &Scenario, vehicle: &Vehicle<T>) -> SupervisorConfig<T> {
+    let f = T::from_f64;
+    let sv = &s.spec.controller.supervisor;
+    let mut c = SupervisorConfig::default_for(vehicle);
+    if let Some(v) = sv.max_fix_age_s {
+        c.max_fix_age = f(v);
+    }
+    if let Some(v) = sv.hold_time_s {
+        c.hold_time = f(v);
+    }
+    if let Some(v) = sv.max_cross_track_m {
+        c.max_cross_track = f(v);
+    }
+    if let Some(v) = sv.max_heading_error_deg {
+        c.max_heading_error = f(v.to_radians());
+    }
+    if let Some(v) = sv.max_jump_m {
+        c.max_jump = f(v);
+    }
+    if let Some(v) = sv.jump_growth_m_s {
+        c.jump_growth = f(v);
+    }
+    if let Some(v) = sv.confirm_fixes {
+        c.confirm_fixes = v;
+    }
+    if let Some(v) = sv.end_tolerance_m {
+        c.end_tolerance = f(v);
+    }
+    c
+}
+
+fn tracker_of<T: Real>(s: &Scenario) -> TrackerConfig<T> {
+    let t = &s.spec.controller.tracker;
+    let f = T::from_f64;
+    TrackerConfig {
+        window_back: f(t.window_back_m),
+        window_ahead: f(t.window_ahead_m),
+        lost_distance: f(t.lost_distance_m),
+        lookahead: f(t.lookahead_m),
+        heading_weight: f(t.heading_weight_m),
+    }
+}
+
+impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
+    /// Firmware for `scenario` running `law`.
+    ///
+    /// # Errors
+    /// If the core refuses the vehicle, lever arm, tracker or supervisor
+    /// settings (the field is named), or the path.
+    pub fn new(scenario: &Scenario, law: L) -> anyhow::Result<Self> {
+        let spec = &scenario.spec;
+        let vehicle = vehicle_of::<T>(&spec.vehicle)?;
+        let supervisor = supervisor_of(scenario, &vehicle);
+        let (antenna, cp, differential) = match &spec.vehicle {
+            VehicleSpec::Bicycle {
+                antenna,
+                control_point_ahead_m,
+                ..
+            } => (antenna, *control_point_ahead_m, false),
+            VehicleSpec::Differential {
+                antenna,
+                control_point_ahead_m,
+                ..
+            } => (antenna, *control_point_ahead_m, true),
+        };
+        let f = T::from_f64;
+        let arm = LeverArm::new(f(antenna.ahead_m - cp), f(antenna.left_m), f(antenna.height_m))
+            .map_err(|e| anyhow::anyhow!("vehicle.antenna: refused by the core: {e}"))?;
+        let guidance = Guidance::new(vehicle, law, tracker_of(scenario), supervisor)
+            .map_err(steer_err("controller"))?;
+        Ok(Self {
+            guidance,
+            path: convert_path(&scenario.path)?,
+            arm,
+            terrain_compensation: spec.controller.terrain_compensation,
+            speed_set: spec.controller.speed_m_s,
+            differential,
+            last: None,
+            last_fix: None,
+        })
+    }
+
+    /// The fix firmware derives from one receiver epoch: the control point
+    /// under the antenna, corrected for heading and (if enabled) roll.
+    fn fix_of(&self, m: &Measurement) -> Option<Fix<T>> {
+        let f = T::from_f64;
+        let roll = if self.terrain_compensation { m.roll } else { 0.0 };
+        let c = control_point(
+            (f(m.x), f(m.y), self.arm.up()),
+            f(m.heading),
+            f(roll),
+            &self.arm,
+        )
+        .ok()?;
+        Some(Fix {
+            x: c.x,
+            y: c.y,
+            heading: f(m.heading),
+            speed: f(m.speed),
+            time: f(m.time_s),
+        })
+    }
+}
+
+/// The harness's name for a core status.
+pub fn status_of(s: GuidanceStatus) -> SupervisorStatus {
+    match s {
+        GuidanceStatus::Acquiring => SupervisorStatus::Acquiring,
+        GuidanceStatus::Following => SupervisorStatus::Following,
+        GuidanceStatus::Degraded => SupervisorStatus::Degraded,
+        GuidanceStatus::Lost => SupervisorStatus::Lost,
+        GuidanceStatus::EndOfPath => SupervisorStatus::EndOfPath,
+        _ => SupervisorStatus::Fault,
+    }
+}
+
+impl<T: Real, L: SteeringLaw<T>> Firmware for GuidanceFirmware<T, L> {
+    fn cycle(&mut self, input: &Cycle) -> Actuation {
+        if let Some(m) = input.measurement {
+            self.last = Some(m);
+            self.last_fix = self.fix_of(&m);
+        }
+        // Firmware hands over its newest fix every cycle; the supervisor
+        // judges its age.
+        let cmd = self.guidance.step(
+            &self.path,
+            &GuidanceInput {
+                fix: self.last_fix,
+                now: T::from_f64(input.now),
+                dt: T::from_f64(input.dt),
+            },
+        );
+        let sign = cmd
+            .tracking
+            .map_or(1.0, |t| t.foot.direction.sign::<f64>());
+        let speed = sign * self.speed_set.min(cmd.speed_limit.to_f64());
+        let drive = if self.differential {
+            let (l, r) = self
+                .guidance
+                .vehicle()
+                .wheel_speeds(cmd.curvature, T::from_f64(speed));
+            Drive::Wheels {
+                left: l.to_f64(),
+                right: r.to_f64(),
+            }
+        } else {
+            Drive::Steer {
+                angle: cmd.steer_angle.to_f64(),
+                speed,
+            }
+        };
+        Actuation {
+            drive,
+            status: status_of(cmd.status),
+            curvature: cmd.curvature.to_f64(),
+            steer_angle: cmd.steer_angle.to_f64(),
+            speed_limit: cmd.speed_limit.to_f64(),
+            cross_track_estimate: cmd.tracking.map(|t| t.cross_track.to_f64()),
+        }
+    }
+}
+
+fn boxed<T: Real + Send + 'static>(s: &Scenario) -> anyhow::Result<Box<dyn Firmware + Send>> {
+    let f = T::from_f64;
+    let bad = |field: &'static str| steer_err(field);
+    Ok(match s.spec.controller.law {
+        LawSpec::PurePursuit {
+            lookahead_base_m,
+            lookahead_time_s,
+            lookahead_min_m,
+            lookahead_max_m,
+        } => {
+            let law = PurePursuit::new(
+                f(lookahead_base_m),
+                f(lookahead_time_s),
+                f(lookahead_min_m),
+                f(lookahead_max_m),
+            )
+            .map_err(bad("controller.law"))?;
+            Box::new(GuidanceFirmware::<T, _>::new(s, law)?)
+        }
+        LawSpec::Stanley {
+            gain_per_s,
+            softening_m_s,
+            virtual_wheelbase_m,
+        } => {
+            let law = Stanley::new(f(gain_per_s), f(softening_m_s), f(virtual_wheelbase_m))
+                .map_err(bad("controller.law"))?;
+            Box::new(GuidanceFirmware::<T, _>::new(s, law)?)
+        }
+        LawSpec::Frenet {
+            cross_track_gain_per_m2,
+            heading_gain_per_m,
+            integral_gain_per_m3,
+            integral_limit_per_m,
+            integral_band_m,
+        } => {
+            let mut law = FrenetFeedback::new(f(cross_track_gain_per_m2), f(heading_gain_per_m))
+                .map_err(bad("controller.law"))?;
+            if let Some(k_i) = integral_gain_per_m3 {
+                law = law
+                    .with_integral(f(k_i), f(integral_limit_per_m), f(integral_band_m))
+                    .map_err(bad("controller.law.integral_gain_per_m3"))?;
+            }
+            Box::new(GuidanceFirmware::<T, _>::new(s, law)?)
+        }
+    })
+}
+
+/// The firmware a scenario asks for (law, gains, precision).
+///
+/// # Errors
+/// If the core refuses a setting; the message names the field.
+pub fn firmware_for(s: &Scenario) -> anyhow::Result<Box<dyn Firmware + Send>> {
+    match s.spec.controller.precision {
+        Precision::F32 => boxed::<f32>(s),
+        Precision::F64 => boxed::<f64>(s),
+    }
+}
+
