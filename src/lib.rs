@@ -70,6 +70,8 @@ mod project;
 mod real;
 mod segment;
 mod tracker;
+#[cfg_attr(feature = "fast-math", allow(dead_code))]
+mod trig;
 
 pub use cursor::{Cursor, Travel};
 pub use error::{PathError, TrackError};
