@@ -24,7 +24,7 @@ const REDUCE_LIMIT: f32 = 12_000.0;
 
 /// `(sin x, cos x)` for `f32` without `f64` arithmetic.
 pub(crate) fn sin_cos_f32(x: f32) -> (f32, f32) {
-    if !(x.abs() <= REDUCE_LIMIT) {
+    if x.is_nan() || x.abs() > REDUCE_LIMIT {
         // Huge, infinite or NaN: libm handles all of these correctly.
         return libm::sincosf(x);
     }
