@@ -75,6 +75,8 @@ mod speed;
 pub mod steer;
 pub mod supervisor;
 mod tracker;
+#[cfg_attr(feature = "fast-math", allow(dead_code))]
+mod trig;
 mod vehicle;
 
 pub use cursor::{Cursor, Travel};
