@@ -224,7 +224,11 @@ fn eval_on_leg<T: Real, const N: usize>(path: &Path<T, N>, leg: &Leg<T>, s: T) -
 /// The leg point at station `s`, continued along the tangent past its ends.
 fn extended_point<T: Real, const N: usize>(path: &Path<T, N>, leg: &Leg<T>, s: T) -> (T, T) {
     let p = eval_on_leg(path, leg, s);
-    let beyond = if leg.bounded { s - clamp_on(leg, s) } else { T::ZERO };
+    let beyond = if leg.bounded {
+        s - clamp_on(leg, s)
+    } else {
+        T::ZERO
+    };
     (p.x + beyond * p.cos, p.y + beyond * p.sin)
 }
 
@@ -255,7 +259,8 @@ fn project<T: Real, const N: usize>(
         p = eval_on_leg(path, leg, s);
     }
     let along = p.along_offset(qx, qy);
-    let at_end = leg.bounded && ((s >= leg.end && along > T::ZERO) || (s <= leg.start && along < T::ZERO));
+    let at_end =
+        leg.bounded && ((s >= leg.end && along > T::ZERO) || (s <= leg.start && along < T::ZERO));
     let station = if at_end { s + along } else { p.station };
     let (ts, tc) = travel;
     let cross = p.cos * ts - p.sin * tc;
@@ -389,7 +394,11 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     }
 
     /// One control cycle: never NaN, bounded work (see the module docs).
-    pub fn step<const N: usize>(&mut self, path: &Path<T, N>, input: &GuidanceInput<T>) -> Command<T> {
+    pub fn step<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        input: &GuidanceInput<T>,
+    ) -> Command<T> {
         let cmd = self.cycle(path, input);
         if cmd.is_finite() {
             cmd
@@ -441,7 +450,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     }
 
     /// Full acquisition; on failure stays in `fail` (straighten, stop).
-    fn acquire<const N: usize>(&mut self, path: &Path<T, N>, f: Fix<T>, dt: T, fail: Mode<T>) -> Command<T> {
+    fn acquire<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        f: Fix<T>,
+        dt: T,
+        fail: Mode<T>,
+    ) -> Command<T> {
         self.tracker.reset();
         match self.locate(path, &f) {
             Some(sit) if self.within_limits(&sit.cp) => {
@@ -509,7 +524,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         };
         let on_leg = t.foot.segment >= leg.first && t.foot.segment <= leg.last;
         let guess = if on_leg { t.station } else { self.station };
-        let mut cp = project(path, &leg, guess, (f.x, f.y), Self::travel(f.heading, leg.direction));
+        let mut cp = project(
+            path,
+            &leg,
+            guess,
+            (f.x, f.y),
+            Self::travel(f.heading, leg.direction),
+        );
         // Leaving the leg at its end: onto the next leg, at once if it has
         // the same direction (the seam of a loop), after a stop at a cusp.
         if leg.bounded && cp.station >= leg.end - self.config.cusp_tolerance {
@@ -527,7 +548,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                 if (seamless && cp.station >= leg.end) || (!seamless && stopped) {
                     leg = nl;
                     self.law.reset();
-                    cp = project(path, &leg, leg.start, (f.x, f.y), Self::travel(f.heading, leg.direction));
+                    cp = project(
+                        path,
+                        &leg,
+                        leg.start,
+                        (f.x, f.y),
+                        Self::travel(f.heading, leg.direction),
+                    );
                 }
             }
         }
@@ -548,7 +575,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     }
 
     /// The law's command, limited, with the speed cap; or the end of path.
-    fn drive<const N: usize>(&mut self, path: &Path<T, N>, f: Fix<T>, sit: Situation<T>, dt: T) -> Command<T> {
+    fn drive<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        f: Fix<T>,
+        sit: Situation<T>,
+        dt: T,
+    ) -> Command<T> {
         let Situation { leg, cp, tracking } = sit;
         let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
         if last_leg && cp.station >= leg.end - self.config.end_tolerance {
@@ -600,7 +633,15 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let stop = if leg.bounded { Some(leg.end) } else { None };
         let next_same = leg.bounded
             && (leg.last + 1 < path.len() || path.is_closed())
-            && leg_of(path, if leg.last + 1 < path.len() { leg.last + 1 } else { 0 }).direction
+            && leg_of(
+                path,
+                if leg.last + 1 < path.len() {
+                    leg.last + 1
+                } else {
+                    0
+                },
+            )
+            .direction
                 == leg.direction;
         let stop = if next_same { None } else { stop };
         let mut limit = speed_cap(path, &self.vehicle, cp.station, stop);
@@ -611,7 +652,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         self.command(limited, limit, GuidanceStatus::Following, Some(tracking))
     }
 
-    fn command(&self, lim: Limited<T>, limit: T, status: GuidanceStatus, tracking: Option<Tracking<T>>) -> Command<T> {
+    fn command(
+        &self,
+        lim: Limited<T>,
+        limit: T,
+        status: GuidanceStatus,
+        tracking: Option<Tracking<T>>,
+    ) -> Command<T> {
         let v = self.speed.clamp_to(-limit, limit);
         Command {
             curvature: lim.curvature,
@@ -645,7 +692,11 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         self.speed_limit = T::ZERO;
         let lim = self.limiter.hold();
         let finite = lim.curvature.is_finite() && lim.steer_angle.is_finite();
-        let (k, d) = if finite { (lim.curvature, lim.steer_angle) } else { (T::ZERO, T::ZERO) };
+        let (k, d) = if finite {
+            (lim.curvature, lim.steer_angle)
+        } else {
+            (T::ZERO, T::ZERO)
+        };
         Command {
             curvature: k,
             steer_angle: d,

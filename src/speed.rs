@@ -177,8 +177,7 @@ mod tests {
     #[test]
     fn stop_and_bounded_scan() {
         let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
-        let path = PathBuilder::<f64, 64>::new(Pose::new(0.0, 0.0, 0.0))
-            .unwrap();
+        let path = PathBuilder::<f64, 64>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
         let mut b = path;
         for _ in 0..60 {
             b.try_push(Segment::line(0.1).unwrap()).unwrap();

@@ -118,7 +118,11 @@ impl<T: Real> Vehicle<T> {
     ///
     /// # Errors
     /// [`SteerError::NonFinite`] or [`SteerError::OutOfRange`].
-    pub fn front_steered(wheelbase: T, max_steer: T, max_steer_rate: T) -> Result<Self, SteerError> {
+    pub fn front_steered(
+        wheelbase: T,
+        max_steer: T,
+        max_steer_rate: T,
+    ) -> Result<Self, SteerError> {
         let wheelbase = positive(wheelbase)?;
         let max_steer = positive(max_steer)?;
         let max_steer_rate = positive(max_steer_rate)?;

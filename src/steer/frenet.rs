@@ -194,8 +194,7 @@ impl<T: Real> FrenetFeedback<T> {
         let tn = sn / cs;
         let feedforward = kappa * cs / scale;
         let cos3 = cs * cs * cs;
-        feedforward
-            + cos3 / (scale * scale) * (w + (input.sharpness * d + kappa * scale * tn) * tn)
+        feedforward + cos3 / (scale * scale) * (w + (input.sharpness * d + kappa * scale * tn) * tn)
     }
 }
 

@@ -102,7 +102,11 @@ impl<T: Real> PurePursuit<T> {
 
 impl<T: Real> SteeringLaw<T> for PurePursuit<T> {
     fn lookahead(&self, speed: T) -> T {
-        let v = if speed.is_finite() { speed.abs() } else { T::ZERO };
+        let v = if speed.is_finite() {
+            speed.abs()
+        } else {
+            T::ZERO
+        };
         (self.base + self.time * v).clamp_to(self.min, self.max)
     }
 
