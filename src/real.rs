@@ -8,9 +8,10 @@
 //! added later without touching the algorithms.
 //!
 //! Accuracy: `f64` uses libm (correctly rounded or within 1 ulp for the
-//! functions used here); `f32` uses libm's `f32` functions, or micromath's
-//! approximations with the `fast-math` feature (about 1e-3 relative; see the
-//! README's accuracy table before enabling it).
+//! functions used here); `f32` uses an `f32`-only `sin_cos` (within 2 ulp,
+//! see `trig.rs`) and libm's `atan2f`, or micromath's approximations with the
+//! `fast-math` feature (about 1e-3 relative; see the README's accuracy table
+//! before enabling it).
 
 use core::fmt::{Debug, Display};
 use core::ops::{Add, AddAssign, Div, Mul, MulAssign, Neg, Sub, SubAssign};
@@ -192,7 +193,7 @@ impl Real for f32 {
     #[cfg(not(feature = "fast-math"))]
     #[inline]
     fn sin_cos(self) -> (Self, Self) {
-        libm::sincosf(self)
+        crate::trig::sin_cos_f32(self)
     }
     #[cfg(feature = "fast-math")]
     #[inline]

@@ -274,7 +274,7 @@ impl<T: Real> Tracker<T> {
         let point = cursor.point(path);
         let lateral = point.lateral_offset(pose.x, pose.y);
         let along = point.along_offset(pose.x, pose.y);
-        let mut station = point.station;
+        let mut station = path.normalize_station(point.station);
         let mut status = TrackStatus::OnPath;
         // Beyond the ends of an open path the foot sticks to the end point;
         // measure along and across its tangent instead.
@@ -323,13 +323,11 @@ impl<T: Real> Tracker<T> {
         let (to, _) = self.cursor.moved(path, self.config.window_ahead);
         let mut best: Option<Foot<T>> = None;
         let mut seg = from.segment();
-        for _ in 0..MAX_WINDOW_SEGMENTS {
-            let lo = if seg == from.segment() {
-                from.offset()
-            } else {
-                T::ZERO
-            };
-            let last = seg == to.segment() && (seg != from.segment() || to.offset() >= lo);
+        for k in 0..MAX_WINDOW_SEGMENTS {
+            // Only the first piece starts inside its segment; on a loop the
+            // walk can come back to the starting segment for the last piece.
+            let lo = if k == 0 { from.offset() } else { T::ZERO };
+            let last = seg == to.segment() && (k > 0 || to.offset() >= lo);
             let hi = if last {
                 to.offset()
             } else {

@@ -12,6 +12,7 @@
 //! apply to it (e.g. ISO 25119, ISO 18497, ISO 3691-4, IEC 61508).
 
 pub mod closed_loop;
+pub mod controller;
 pub mod firmware;
 pub mod metrics;
 pub mod report;
