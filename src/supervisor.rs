@@ -268,9 +268,14 @@ impl<T: Real> FixMonitor<T> {
 fn extrapolate<T: Real>(f: &Fix<T>, now: T) -> Fix<T> {
     let age = (now - f.time).max(T::ZERO);
     let (s, co) = f.heading.sin_cos();
+    // The extrapolated fix is stamped with the time it now stands for: it
+    // becomes the accepted fix, from which the next fix is predicted, and
+    // keeping the old stamp would count the latency displacement twice
+    // (a false jump of `speed * age`, 0.4 m at 8 m/s and 50 ms).
     Fix {
         x: f.x + f.speed * age * co,
         y: f.y + f.speed * age * s,
+        time: f.time + age,
         ..*f
     }
 }

@@ -10,9 +10,9 @@
 //! path's anchors; the harness measures in `f64` against the host path.
 
 use kappaline::{
-    control_point, AnchoredSegment, Continuity, Fix, FrenetFeedback, Guidance,
-    GuidanceInput, GuidanceStatus, LeverArm, Path, PurePursuit, Real, Segment, Stanley,
-    SteeringLaw, SupervisorConfig, TrackerConfig, Vehicle,
+    control_point, AnchoredSegment, Continuity, Fix, FrenetFeedback, Guidance, GuidanceInput,
+    GuidanceStatus, LeverArm, Path, PurePursuit, Real, Segment, Stanley, SteeringLaw,
+    SupervisorConfig, TrackerConfig, Vehicle,
 };
 
 use crate::firmware::{Actuation, Cycle, Firmware, SupervisorStatus};
@@ -190,8 +190,12 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
             } => (antenna, *control_point_ahead_m, true),
         };
         let f = T::from_f64;
-        let arm = LeverArm::new(f(antenna.ahead_m - cp), f(antenna.left_m), f(antenna.height_m))
-            .map_err(|e| anyhow::anyhow!("vehicle.antenna: refused by the core: {e}"))?;
+        let arm = LeverArm::new(
+            f(antenna.ahead_m - cp),
+            f(antenna.left_m),
+            f(antenna.height_m),
+        )
+        .map_err(|e| anyhow::anyhow!("vehicle.antenna: refused by the core: {e}"))?;
         let guidance = Guidance::new(vehicle, law, tracker_of(scenario), supervisor)
             .map_err(steer_err("controller"))?;
         Ok(Self {
@@ -210,7 +214,11 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
     /// under the antenna, corrected for heading and (if enabled) roll.
     fn fix_of(&self, m: &Measurement) -> Option<Fix<T>> {
         let f = T::from_f64;
-        let roll = if self.terrain_compensation { m.roll } else { 0.0 };
+        let roll = if self.terrain_compensation {
+            m.roll
+        } else {
+            0.0
+        };
         let c = control_point(
             (f(m.x), f(m.y), self.arm.up()),
             f(m.heading),
@@ -256,9 +264,7 @@ impl<T: Real, L: SteeringLaw<T>> Firmware for GuidanceFirmware<T, L> {
                 dt: T::from_f64(input.dt),
             },
         );
-        let sign = cmd
-            .tracking
-            .map_or(1.0, |t| t.foot.direction.sign::<f64>());
+        let sign = cmd.tracking.map_or(1.0, |t| t.foot.direction.sign::<f64>());
         let speed = sign * self.speed_set.min(cmd.speed_limit.to_f64());
         let drive = if self.differential {
             let (l, r) = self
@@ -343,4 +349,3 @@ pub fn firmware_for(s: &Scenario) -> anyhow::Result<Box<dyn Firmware + Send>> {
         Precision::F64 => boxed::<f64>(s),
     }
 }
-

@@ -11,10 +11,13 @@
 //! an independent emergency stop and a safety case under the standards that
 //! apply to it (e.g. ISO 25119, ISO 18497, ISO 3691-4, IEC 61508).
 
+pub mod cli;
 pub mod closed_loop;
 pub mod controller;
 pub mod firmware;
 pub mod metrics;
 pub mod report;
+pub mod runner;
 pub mod scenario;
 pub mod sim;
+pub mod sweep;

@@ -73,7 +73,11 @@ fn path_that_does_not_validate_is_refused_naming_the_segment() {
     let e = refuse(&text);
     assert_eq!(e.field(), "path.segments[0]", "{e}");
     // A NaN curvature.
-    let text = HIGHSPEED.replacen("curvature_start_per_m = 0.0", "curvature_start_per_m = nan", 1);
+    let text = HIGHSPEED.replacen(
+        "curvature_start_per_m = 0.0",
+        "curvature_start_per_m = nan",
+        1,
+    );
     let e = refuse(&text);
     assert_eq!(e.field(), "path.segments[1]", "{e}");
     // A loop that does not close.

@@ -6,8 +6,9 @@
 //! refused here, with the index of the segment.
 
 pub mod builtin;
-pub mod schema;
+pub mod overrides;
 pub mod paths;
+pub mod schema;
 mod validate;
 
 use std::sync::Arc;
@@ -140,3 +141,41 @@ fn line_of(text: &str, span: Option<std::ops::Range<usize>>) -> String {
     }
 }
 
+/// Where a scenario comes from: a built-in name or a file path.
+///
+/// # Errors
+/// Unknown built-in, unreadable file.
+pub fn source_text(name_or_path: &str) -> anyhow::Result<(String, String)> {
+    if let Some(b) = builtin::BUILTINS.iter().find(|b| b.name == name_or_path) {
+        return Ok((b.text.to_string(), format!("builtin:{}", b.name)));
+    }
+    let p = std::path::Path::new(name_or_path);
+    if p.exists() {
+        let text = std::fs::read_to_string(p)
+            .map_err(|e| anyhow::anyhow!("reading {}: {e}", p.display()))?;
+        return Ok((text, p.display().to_string()));
+    }
+    let names: Vec<&str> = builtin::BUILTINS.iter().map(|b| b.name).collect();
+    anyhow::bail!(
+        "`{name_or_path}` is neither a built-in scenario ({}) nor a file",
+        names.join(", ")
+    )
+}
+
+/// Loads a scenario by built-in name or file path, applying `key=value`
+/// overrides first.
+///
+/// # Errors
+/// Unknown source, bad override, or a scenario that does not check.
+pub fn load(name_or_path: &str, overrides: &[(String, toml::Value)]) -> anyhow::Result<Scenario> {
+    let (text, source) = source_text(name_or_path)?;
+    let mut value: toml::Value = toml::from_str(&text).map_err(|e| ScenarioError::Schema {
+        source_name: source.clone(),
+        field: "(file)".to_string(),
+        message: e.message().to_string() + &line_of(&text, e.span()),
+    })?;
+    for (k, v) in overrides {
+        overrides::set(&mut value, k, v.clone()).map_err(|e| anyhow::anyhow!("--set {e}"))?;
+    }
+    Ok(Scenario::from_value(value, &source)?)
+}

@@ -3,8 +3,8 @@
 //! turns, or waypoints with cornering turns. Errors name the field.
 
 use kappaline::{
-    corner_path, Continuity, Corner, CornerConfig, Direction, FieldEnd, HeadlandTurn, PathBuilder,
-    PathLimits, Passes, Pose, Segment, TurnPolicy, MAX_TURN_SEGMENTS,
+    corner_path, Continuity, Corner, CornerConfig, Direction, FieldEnd, HeadlandTurn, Passes,
+    PathBuilder, PathLimits, Pose, Segment, TurnPolicy, MAX_TURN_SEGMENTS,
 };
 
 use super::schema::{PathSpec, PoseSpec, SegmentSpec, TurnSide};
@@ -58,7 +58,12 @@ pub fn build(spec: &PathSpec) -> Result<HostPath, FieldError> {
             };
             corner_path::<f64, MAX_SEGMENTS, MAX_SEGMENTS>(&pts, &cfg)
                 .map(|(p, _corners): (HostPath, heapless::Vec<Corner<f64>, MAX_SEGMENTS>)| p)
-                .map_err(|e| ("path.points_m".into(), format!("path does not validate: {e}")))
+                .map_err(|e| {
+                    (
+                        "path.points_m".into(),
+                        format!("path does not validate: {e}"),
+                    )
+                })
         }
     }
 }
@@ -91,7 +96,11 @@ fn from_segments(
         b.build()
     };
     result.map_err(|e| {
-        let field = if closed { "path.closed" } else { "path.segments" };
+        let field = if closed {
+            "path.closed"
+        } else {
+            "path.segments"
+        };
         (field.to_string(), format!("path does not validate: {e}"))
     })
 }
@@ -181,12 +190,8 @@ fn field(
         .and_then(|b| b.build())
         .map_err(|e| ("path.pass_length_m".to_string(), e.to_string()))?;
     let set = Passes::new(swath).map_err(|e| ("path.swath_m".to_string(), format!("{e:?}")))?;
-    let limits = PathLimits::new(max_curvature, max_sharpness, 1e-9).map_err(|e| {
-        (
-            "path.turn_max_curvature_per_m".to_string(),
-            e.to_string(),
-        )
-    })?;
+    let limits = PathLimits::new(max_curvature, max_sharpness, 1e-9)
+        .map_err(|e| ("path.turn_max_curvature_per_m".to_string(), e.to_string()))?;
     let policy = if allow_reverse {
         TurnPolicy::AllowReverse
     } else {
@@ -200,7 +205,12 @@ fn field(
         .map_err(|e| ("path.start".to_string(), e.to_string()))?;
     let mut prev = None;
     let too_many = |e: kappaline::PathError| ("path.passes".to_string(), format!("{e}"));
-    push(&mut b, &mut prev, Segment::line(pass_length).map_err(too_many)?).map_err(too_many)?;
+    push(
+        &mut b,
+        &mut prev,
+        Segment::line(pass_length).map_err(too_many)?,
+    )
+    .map_err(too_many)?;
     for i in 1..passes as i32 {
         let (from, to) = ((i - 1) * step, i * step);
         // Odd passes run against the A-B direction: their turn is at the B end.
@@ -221,8 +231,12 @@ fn field(
         for seg in turn.segments.iter() {
             push(&mut b, &mut prev, *seg).map_err(too_many)?;
         }
-        push(&mut b, &mut prev, Segment::line(pass_length).map_err(too_many)?)
-            .map_err(too_many)?;
+        push(
+            &mut b,
+            &mut prev,
+            Segment::line(pass_length).map_err(too_many)?,
+        )
+        .map_err(too_many)?;
     }
     b.build()
         .map_err(|e| ("path".to_string(), format!("path does not validate: {e}")))

@@ -259,7 +259,9 @@ fn check_controller(c: &ControllerSpec, physics_hz: f64) -> Check {
             if !(lookahead_max_m.is_finite() && lookahead_max_m >= lookahead_min_m) {
                 return fail(
                     "controller.law.lookahead_max_m",
-                    format!("must be >= lookahead_min_m ({lookahead_min_m}), got {lookahead_max_m}"),
+                    format!(
+                        "must be >= lookahead_min_m ({lookahead_min_m}), got {lookahead_max_m}"
+                    ),
                 );
             }
         }
@@ -305,9 +307,17 @@ fn check_controller(c: &ControllerSpec, physics_hz: f64) -> Check {
             None => Ok(()),
         }
     };
-    opt("controller.supervisor.max_fix_age_s", sv.max_fix_age_s, true)?;
+    opt(
+        "controller.supervisor.max_fix_age_s",
+        sv.max_fix_age_s,
+        true,
+    )?;
     opt("controller.supervisor.hold_time_s", sv.hold_time_s, false)?;
-    opt("controller.supervisor.max_cross_track_m", sv.max_cross_track_m, true)?;
+    opt(
+        "controller.supervisor.max_cross_track_m",
+        sv.max_cross_track_m,
+        true,
+    )?;
     if let Some(h) = sv.max_heading_error_deg {
         if !(h > 0.0 && h <= 180.0) {
             return fail(
@@ -317,10 +327,21 @@ fn check_controller(c: &ControllerSpec, physics_hz: f64) -> Check {
         }
     }
     opt("controller.supervisor.max_jump_m", sv.max_jump_m, true)?;
-    opt("controller.supervisor.jump_growth_m_s", sv.jump_growth_m_s, false)?;
-    opt("controller.supervisor.end_tolerance_m", sv.end_tolerance_m, false)?;
+    opt(
+        "controller.supervisor.jump_growth_m_s",
+        sv.jump_growth_m_s,
+        false,
+    )?;
+    opt(
+        "controller.supervisor.end_tolerance_m",
+        sv.end_tolerance_m,
+        false,
+    )?;
     if sv.confirm_fixes == Some(0) {
-        return fail("controller.supervisor.confirm_fixes", "must be >= 1, got 0".into());
+        return fail(
+            "controller.supervisor.confirm_fixes",
+            "must be >= 1, got 0".into(),
+        );
     }
     let t = &c.tracker;
     non_negative("controller.tracker.window_back_m", t.window_back_m)?;
