@@ -1,0 +1,183 @@
+//! Sweeps over seeds and parameters, the report files and the command line.
+
+use std::process::Command;
+
+use kappaline_hil::closed_loop::RunOptions;
+use kappaline_hil::scenario::load;
+use kappaline_hil::sweep::{self, parse_param, Plan};
+use kappaline_hil::{report, runner};
+
+/// A sweep of 1000 seeds finishes (short runs: 4 s of the warehouse loop
+/// each, so the whole sweep is 4000 simulated seconds), every run yields
+/// finite figures, and the seeds really differ.
+#[test]
+fn sweep_of_a_thousand_seeds_finishes() {
+    let plan = Plan {
+        source: "warehouse".into(),
+        base: Vec::new(),
+        params: Vec::new(),
+        seeds: 0..1000,
+        duration_s: Some(4.0),
+    };
+    let jobs = plan.jobs().unwrap();
+    assert_eq!(jobs.len(), 1000);
+    let results = sweep::run(&plan, &jobs, &|| ()).unwrap();
+    assert_eq!(results.len(), 1000);
+    let mut rms: Vec<f64> = results.iter().map(|r| r.metrics.overall.rms).collect();
+    assert!(rms.iter().all(|v| v.is_finite() && *v > 0.0));
+    assert!(results.iter().all(|r| r.metrics.non_finite == 0));
+    rms.sort_by(f64::total_cmp);
+    rms.dedup();
+    assert!(rms.len() > 900, "seeds should give different runs");
+    let text = sweep::summary(&plan, &results);
+    assert!(text.contains("1000 seeds"), "{text}");
+}
+
+#[test]
+fn parameter_sweep_runs_every_combination_and_noise_hurts() {
+    let plan = Plan {
+        source: "field".into(),
+        base: vec![
+            ("gnss.bias_sigma_m".into(), toml::Value::Float(0.0)),
+            ("terrain.slope_y_deg".into(), toml::Value::Float(0.0)),
+            ("start.left_m".into(), toml::Value::Float(0.0)),
+            ("start.heading_deg".into(), toml::Value::Float(0.0)),
+        ],
+        params: vec![parse_param("gnss.noise_m=0.01,0.10").unwrap()],
+        seeds: 1..4,
+        duration_s: Some(45.0),
+    };
+    let jobs = plan.jobs().unwrap();
+    assert_eq!(jobs.len(), 6);
+    let results = sweep::run(&plan, &jobs, &|| ()).unwrap();
+    let mean = |noise: f64| {
+        let v: Vec<f64> = results
+            .iter()
+            .filter(|r| r.values[0].as_float() == Some(noise))
+            .map(|r| r.metrics.straight.rms)
+            .collect();
+        v.iter().sum::<f64>() / v.len() as f64
+    };
+    assert!(
+        mean(0.10) > 2.0 * mean(0.01),
+        "{} vs {}",
+        mean(0.10),
+        mean(0.01)
+    );
+    let dir = tempdir("sweep");
+    let csv_path = dir.join("sweep.csv");
+    sweep::write_csv(&csv_path, &plan, &results).unwrap();
+    let text = std::fs::read_to_string(&csv_path).unwrap();
+    assert_eq!(text.lines().count(), 7);
+    assert!(text.starts_with("gnss.noise_m,seed,straight_RMS_m"));
+}
+
+#[test]
+fn parameter_ranges_parse() {
+    let p = parse_param("gnss.noise_m=0.01:0.03:3").unwrap();
+    assert_eq!(p.values.len(), 3);
+    assert!((p.values[1].as_float().unwrap() - 0.02).abs() < 1e-12);
+    assert!(parse_param("gnss.noise_m").is_err());
+    // A swept value outside its range is refused naming the field.
+    let plan = Plan {
+        source: "field".into(),
+        base: Vec::new(),
+        params: vec![parse_param("vehicle.wheelbase_m=-1.0").unwrap()],
+        seeds: 0..1,
+        duration_s: None,
+    };
+    let e = plan.jobs().unwrap_err().to_string();
+    assert!(e.contains("vehicle.wheelbase_m"), "{e}");
+}
+
+fn tempdir(tag: &str) -> std::path::PathBuf {
+    let d = std::env::temp_dir().join(format!("kappaline-hil-{tag}-{}", std::process::id()));
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+#[test]
+fn report_writes_csv_svg_and_html() {
+    let s = load("warehouse", &[]).unwrap();
+    let o = runner::run(
+        &s,
+        RunOptions {
+            duration_s: Some(30.0),
+        },
+        None,
+    )
+    .unwrap();
+    let dir = tempdir("report");
+    let out = report::write_all(&dir, &s, &o.metrics, &o.checks, &o.run).unwrap();
+    let csv = std::fs::read_to_string(out.join("trace.csv")).unwrap();
+    assert_eq!(csv.lines().count(), o.run.trace.len() + 1);
+    assert!(csv.lines().next().unwrap().contains("cross_track_m"));
+    for svg in ["path.svg", "cross_track.svg"] {
+        let text = std::fs::read_to_string(out.join(svg)).unwrap();
+        assert!(
+            text.starts_with("<svg") && text.contains("<path d=\"M"),
+            "{svg}"
+        );
+    }
+    let html = std::fs::read_to_string(out.join("report.html")).unwrap();
+    assert_eq!(html.matches("<svg").count(), 2, "both plots embedded");
+    assert!(html.contains("straight passes"));
+}
+
+fn hil() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_kappaline-hil"))
+}
+
+#[test]
+fn command_line_exit_codes() {
+    let dir = tempdir("cli");
+    let ok = hil()
+        .args([
+            "run",
+            "warehouse",
+            "-q",
+            "--duration",
+            "30",
+            "--set",
+            "thresholds.min_completion=0.3",
+            "--out",
+        ])
+        .arg(&dir)
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&ok.stdout);
+    assert_eq!(ok.status.code(), Some(0), "{text}");
+    assert!(text.contains("result: PASS"));
+    assert!(dir.join("warehouse").join("report.html").exists());
+
+    let fail = hil()
+        .args([
+            "run",
+            "warehouse",
+            "-q",
+            "--no-report",
+            "--duration",
+            "30",
+            "--set",
+            "thresholds.straight_rms_m=0.0001",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(fail.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&fail.stdout).contains("FAIL"));
+
+    let bad = dir.join("bad.toml");
+    let text = include_str!("../scenarios/warehouse.toml")
+        .replace("track_width_m = 0.45", "track_width_m = -0.45");
+    std::fs::write(&bad, text).unwrap();
+    let refused = hil().arg("run").arg(&bad).output().unwrap();
+    assert_eq!(refused.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&refused.stderr);
+    assert!(err.contains("vehicle.track_width_m"), "{err}");
+
+    let list = hil().arg("list").output().unwrap();
+    let text = String::from_utf8_lossy(&list.stdout);
+    for name in ["field", "warehouse", "highspeed"] {
+        assert!(text.contains(name), "{text}");
+    }
+}
