@@ -81,12 +81,15 @@ pub fn fresnel<T: Real>(x: T) -> (T, T) {
     let ax = x.abs();
     let f = if ax < c(SERIES_LIMIT) {
         fresnel_series(ax)
-    } else if (ax * ax).is_finite() {
+    } else if ax * T::EPSILON < T::ONE {
         let g = fresnel_aux(ax);
         let half = Cplx::new(T::HALF, T::HALF);
         half - g * Cplx::expi(phase_of(ax))
-    } else if ax.is_finite() || ax > T::ZERO {
-        // x^2 overflows (or x is infinite): the limit 1/2 is the closest value.
+    } else if ax >= T::ONE {
+        // |C - 1/2|, |S - 1/2| <= 1 / (pi x) < epsilon / pi here (DLMF 7.5.3
+        // with f(x) < 1 / (pi x), 7.12.1): the limit 1/2 is the closest value.
+        // This also keeps the phase pi x^2 / 2 (which overflows for large x)
+        // out of the trigonometry.
         Cplx::new(T::HALF, T::HALF)
     } else {
         // NaN.
@@ -140,7 +143,20 @@ pub(crate) fn fresnel_aux<T: Real>(x: T) -> Cplx<T> {
         let d = Cplx::new(T::HALF, T::HALF) - f;
         d * Cplx::expi(-phase_of(x))
     } else {
-        erfc_fraction(x).scale(x)
+        let x2 = x * x;
+        // DLMF 7.12.2-7.12.3: f ~ 1/(pi x) (1 - 3/(pi x^2)^2 + ...),
+        // g ~ 1/(pi^2 x^3) (1 - 15/(pi x^2)^2 + ...). Once the first
+        // correction 15/(pi^2 x^4) is below epsilon / 2 the leading terms are
+        // exact to the type's precision; the continued fraction would
+        // overflow in `recip` for very large x (|pi x^2|^2 beyond the range).
+        let pi2 = T::PI * T::PI;
+        if pi2 * x2 * x2 * T::EPSILON > c(30.0) {
+            let f = T::ONE / (T::PI * x);
+            let g = f / (T::PI * x2);
+            Cplx::new(g, f)
+        } else {
+            erfc_fraction(x).scale(x)
+        }
     }
 }
 

@@ -1,1 +1,3 @@
-fn main() { println!("kappaline-hil: harness not built yet"); }
+fn main() {
+    println!("kappaline-hil: harness not built yet");
+}
