@@ -82,11 +82,15 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
         } else {
             let u0 = (k * lx).atan2(T::ONE - k * ly) / k;
             let period = T::TWO * T::PI / k.abs();
-            // Whole turns that bring u0 into the interval (at most two fit
-            // in any interval shorter than a lap; longer ones see three).
-            let base = u0 + ((lo - u0) / period).floor() * period;
-            for n in 0..4u32 {
-                let u = base + T::from_u32(n) * period;
+            // The feet are u0 + n period; the first one at or past `lo` has
+            // n = n_lo. Its neighbours cover any interval up to two laps long
+            // (the window is far shorter). u0 itself is used unshifted when
+            // n = 0: for a radius of 1e12 m the period is 6e12 m, and
+            // `u0 - period + period` would keep only millimetres of u0.
+            let n_lo = -((u0 - lo) / period).floor();
+            for j in 0..4u32 {
+                let n = n_lo - T::ONE + T::from_u32(j);
+                let u = if n == T::ZERO { u0 } else { u0 + n * period };
                 if u > hi + period {
                     break;
                 }
@@ -149,7 +153,8 @@ fn clothoid_roots<T: Real, const N: usize>(
             lo + width * T::from_u32(k as u32 + 1)
         };
         let fb = f_and_slope(b).0;
-        if fa < T::ZERO && fb > T::ZERO {
+        // `>=`: a foot exactly on a piece boundary is a root of this piece.
+        if fa < T::ZERO && fb >= T::ZERO {
             *slot = Some(refine(a, b, fa, fb, &f_and_slope));
         }
         a = b;
