@@ -220,6 +220,18 @@ impl<T: Real> Tracker<T> {
         self.acquired = false;
     }
 
+    /// Takes a known position on the path (e.g. resuming a pass at a
+    /// recorded station, or a supervisor's choice between candidate passes):
+    /// the tracker counts as acquired there and the next update searches the
+    /// window around it, with no whole-path search.
+    ///
+    /// The cursor must belong to the path later passed to [`Tracker::update`];
+    /// an index past its end is clamped to its last segment.
+    pub fn resume_at(&mut self, cursor: Cursor<T>) {
+        self.cursor = cursor;
+        self.acquired = true;
+    }
+
     /// Projects `pose` (control point position in metres, body heading in
     /// radians) onto `path` within the window around the last foot point, or
     /// over the whole path if the tracker has not acquired it yet.
