@@ -331,6 +331,8 @@ mod tests {
     const TOL64: f64 = 1e-15;
 
     #[test]
+    // Published values quoted digit for digit as printed.
+    #[allow(clippy::excessive_precision)]
     fn published_points() {
         // (x, C, S): J. Burkardt test_values fresnel_cos_values / fresnel_sin_values
         // (x = 1, 2, 3); scipy test suite TestFresnel (x = 0.5).

@@ -58,8 +58,22 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
         offset: lo,
         dist2: dist2(lo),
     };
+    if hi > lo {
+        let d = dist2(hi);
+        if d < best.dist2 {
+            best = Foot {
+                segment: i,
+                offset: hi,
+                dist2: d,
+            };
+        }
+    }
     let mut consider = |u: T| {
-        let u = u.clamp_to(lo, hi);
+        // The ends are already in `best`: a candidate outside the interval
+        // would clamp to one of them, so skip its evaluation (and its trig).
+        if !(u > lo && u < hi) {
+            return;
+        }
         let d = dist2(u);
         if d < best.dist2 {
             best = Foot {
@@ -69,7 +83,6 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
             };
         }
     };
-    consider(hi);
     // q in the segment's own frame.
     let dx = qx - pl.x;
     let dy = qy - pl.y;

@@ -117,8 +117,8 @@ pub trait Real:
             return r;
         }
         if !self.is_finite() {
-            // NaN in, NaN out (infinity has no angle either).
-            return self - self;
+            // NaN in, NaN out (infinity has no angle either: 0 * inf is NaN).
+            return self * Self::ZERO;
         }
         // |self| so large that k * turn is off by more than a turn (beyond
         // about 1e15 rad in f64, 1e7 rad in f32): the angle is meaningless at

@@ -155,8 +155,7 @@ fn close_refuses_open_ends() {
         b.clone().close(Continuity::DEFAULT).err(),
         Some(PathError::PositionGap { index: 0 })
     );
-    // A full circle plus a 1 m line closes in position within 1.5 m but not in heading... :
-    // instead: a circle missing 2 mrad of turn ends 2 mrad off in heading and 2 cm off in position.
+    // A circle missing 2 mrad of turn ends 2 mrad off in heading and 2 cm off in position.
     let mut b = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
     b.try_push(Segment::arc(2.0 * PI * 10.0 - 0.02, 0.1).unwrap())
         .unwrap();

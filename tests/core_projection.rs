@@ -106,16 +106,16 @@ fn offsets(limit: f64) -> Vec<f64> {
 #[test]
 fn lines_arcs_and_joints() {
     let mut worst = Worst(0.0, String::new());
-    // Line, R = 30 m arc left, line, R = 25 m arc right, line: joints at 40, 87.12, 127.12, 166.39.
+    // Line, R = 30 m arc left (1.6 rad), line, R = 25 m arc right (1.4 rad), line.
     let path: Path<f64, 8> = PathBuilder::new(Pose::new(100.0, -50.0, 1.0))
         .unwrap()
         .push(Segment::line(40.0).unwrap())
         .unwrap()
-        .push(Segment::arc(30.0 * 1.5708, 1.0 / 30.0).unwrap())
+        .push(Segment::arc(30.0 * 1.6, 1.0 / 30.0).unwrap())
         .unwrap()
         .push(Segment::line(40.0).unwrap())
         .unwrap()
-        .push(Segment::arc(25.0 * 1.5708, -1.0 / 25.0).unwrap())
+        .push(Segment::arc(25.0 * 1.4, -1.0 / 25.0).unwrap())
         .unwrap()
         .push(Segment::line(40.0).unwrap())
         .unwrap()
