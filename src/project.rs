@@ -10,7 +10,7 @@
 //!   `kappa u = atan2(kappa qx, 1 - kappa qy)` in the segment frame, plus
 //!   whole turns, clamped. Exact for radii from millimetres to 1e12 m.
 //! * Clothoid: the search interval is cut into pieces turning at most
-//!   pi/4 each; where `f` changes sign from negative to positive (a local
+//!   pi/4 each (up to 256 pieces, a turn of 200 rad); where `f` changes sign from negative to positive (a local
 //!   minimum of the distance) a Newton iteration refines it, safeguarded by
 //!   bisection so it never leaves the bracket. The inside of a tight curve,
 //!   where `f' -> 0`, falls back to bisection.
@@ -21,8 +21,12 @@
 use crate::path::Path;
 use crate::real::{c, Real};
 
-/// At most this many pieces per clothoid interval (bounded cost).
-const MAX_PIECES: u32 = 16;
+/// At most this many pieces per clothoid interval (bounded cost). Enough for
+/// a turn of 200 rad (32 laps) in one interval at pi/4 per piece; beyond that
+/// the pieces turn more and a local minimum can be missed. A window of a few
+/// metres needs one or two pieces; the whole-path acquisition of a long,
+/// tight spiral needs dozens.
+const MAX_PIECES: u32 = 256;
 /// Newton/bisection iterations per bracket.
 const MAX_ITER: u32 = 48;
 
@@ -111,17 +115,13 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
             }
         }
     } else {
-        for u in clothoid_roots(path, i, lo, hi, qx, qy)
-            .into_iter()
-            .flatten()
-        {
-            consider(u);
-        }
+        clothoid_roots(path, i, lo, hi, qx, qy, &mut consider);
     }
     best
 }
 
-/// Local minima of the distance on a clothoid interval (up to `MAX_PIECES`).
+/// Local minima of the distance on a clothoid interval, each passed to
+/// `found` (at most one per piece, at most `MAX_PIECES` pieces).
 fn clothoid_roots<T: Real, const N: usize>(
     path: &Path<T, N>,
     i: usize,
@@ -129,24 +129,16 @@ fn clothoid_roots<T: Real, const N: usize>(
     hi: T,
     qx: T,
     qy: T,
-) -> [Option<T>; MAX_PIECES as usize] {
+    found: &mut impl FnMut(T),
+) {
     let pl = *path.placed_at(i);
-    let mut out = [None; MAX_PIECES as usize];
     let kappa_lo = (pl.kappa0 + pl.sigma * lo).abs();
     let kappa_hi = (pl.kappa0 + pl.sigma * hi).abs();
     let turn = kappa_lo.max(kappa_hi) * (hi - lo);
     let quarter: T = c(core::f64::consts::FRAC_PI_4);
-    let want = (turn / quarter).floor() + T::ONE;
-    let pieces = if want < T::from_u32(MAX_PIECES) {
-        // `want` is a small whole number here.
-        let mut n = 1u32;
-        while T::from_u32(n) < want {
-            n += 1;
-        }
-        n
-    } else {
-        MAX_PIECES
-    };
+    // `as` saturates (and maps NaN to 0), so this is total.
+    let want = ((turn / quarter).to_f64() as u32).saturating_add(1);
+    let pieces = want.clamp(1, MAX_PIECES);
     let width = (hi - lo) / T::from_u32(pieces);
     // f(u) = (p - q) . T and the lateral offset d = (q - p) . N.
     let f_and_slope = |u: T| {
@@ -159,21 +151,20 @@ fn clothoid_roots<T: Real, const N: usize>(
     };
     let mut a = lo;
     let mut fa = f_and_slope(a).0;
-    for (k, slot) in out.iter_mut().enumerate().take(pieces as usize) {
-        let b = if k + 1 == pieces as usize {
+    for k in 1..=pieces {
+        let b = if k == pieces {
             hi
         } else {
-            lo + width * T::from_u32(k as u32 + 1)
+            lo + width * T::from_u32(k)
         };
         let fb = f_and_slope(b).0;
         // `>=`: a foot exactly on a piece boundary is a root of this piece.
         if fa < T::ZERO && fb >= T::ZERO {
-            *slot = Some(refine(a, b, fa, fb, &f_and_slope));
+            found(refine(a, b, fa, fb, &f_and_slope));
         }
         a = b;
         fa = fb;
     }
-    out
 }
 
 /// Safeguarded Newton in the bracket `[a, b]` with `f(a) < 0 < f(b)`.
