@@ -189,7 +189,13 @@ fn published_a12_r9_example() {
         .build()
         .unwrap();
     let e32 = p32.at(16.0);
-    assert!(((e32.x as f64) - want.0).abs() < 1e-5 && ((e32.y as f64) - want.1).abs() < 1e-5);
+    // fast-math f32 trigonometry is about 1e-3 accurate (README): 1e-3 of 16 m.
+    let tol32 = if cfg!(feature = "fast-math") {
+        1.6e-2
+    } else {
+        1e-5
+    };
+    assert!(((e32.x as f64) - want.0).abs() < tol32 && ((e32.y as f64) - want.1).abs() < tol32);
     println!(
         "A=12 R=9: end ({:.12}, {:.12}) m, error {e:.3e} m",
         end.x, end.y

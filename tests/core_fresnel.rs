@@ -37,6 +37,10 @@ fn f64_matches_mpmath_table() {
 }
 
 #[test]
+#[cfg_attr(
+    feature = "fast-math",
+    ignore = "fast-math f32 trigonometry is about 1e-3 accurate (README)"
+)]
 fn f32_matches_mpmath_table() {
     let mut worst = (0.0f64, 0.0f64);
     for &(x, _, _) in FRESNEL_TABLE.iter() {

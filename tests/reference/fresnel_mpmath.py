@@ -49,6 +49,9 @@ def fresnel_points():
     for v in ["0.123456789", "0.7071067811865476", "1.2345", "2.718281828459045",
               "3.141592653589793", "7.77", "13.13", "19.99"]:
         xs.add(mpf(v))
+    # Large arguments, where the phase pi x^2 / 2 is large.
+    for v in ["25", "50", "100", "333.3", "1000", "1234.5678", "7000", "1e5", "3.3e6", "1e8"]:
+        xs.add(mpf(v))
     pos = sorted(xs)
     # Negative x: every 0.25 and the points near the switch.
     neg = [-(mpf(i) / 4) for i in range(1, 81)]
