@@ -28,7 +28,7 @@
 //! | [`Cursor`] | a position on the path, advanced in O(1) per step; lookahead |
 //! | [`Tracker`] | windowed projection: station, cross-track, heading error, curvature |
 //! | [`Real`] | the numeric backend (`f32`, `f64`) |
-//! | [`fresnel`], [`generalized_fresnel`] | Fresnel integrals in `no_std` |
+//! | [`fresnel()`], [`generalized_fresnel`] | Fresnel integrals in `no_std` |
 //!
 //! # Conventions
 //! Metres, radians, 1/m. Headings counter-clockwise from `+x`; curvature
