@@ -209,7 +209,8 @@ impl<T: Real, const M: usize> HeadlandTurn<T, M> {
         let end = turn.end_pose64()?;
         let miss = libm::hypot(end.x - t.x, end.y - t.y);
         let tol = 1e-6 * (1.0 + libm::fabs(w) + libm::fabs(e));
-        if miss.is_nan() || miss > tol || libm::fabs((end.heading - t.heading).wrap_angle()) > 1e-6 {
+        if miss.is_nan() || miss > tol || libm::fabs((end.heading - t.heading).wrap_angle()) > 1e-6
+        {
             return Err(HeadlandError::NoSolution);
         }
         Ok(turn)

@@ -83,12 +83,17 @@ pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGM
 // Path building (issue 4).
 mod corner;
 mod feasibility;
+mod fit;
 mod headland;
 mod lever_arm;
 mod passes;
 
 pub use corner::{corner_path, Corner, CornerConfig, CornerError, TurnShape};
 pub use feasibility::{check_path, FeasibilityReport, PathLimits, Violation, ViolationKind};
+pub use fit::{
+    clothoid_spline, estimate_headings, fit_g1, fresnel_moments, FitError, G1Fit, Waypoint,
+    MAX_NEWTON_STEPS,
+};
 pub use headland::{
     FieldEnd, HeadlandError, HeadlandTurn, TurnKind, TurnPolicy, MAX_TURN_SEGMENTS,
 };
