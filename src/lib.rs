@@ -84,6 +84,7 @@ pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGM
 mod corner;
 mod feasibility;
 mod fit;
+mod geodesy;
 mod headland;
 mod lever_arm;
 mod passes;
@@ -93,6 +94,9 @@ pub use feasibility::{check_path, FeasibilityReport, PathLimits, Violation, Viol
 pub use fit::{
     clothoid_spline, estimate_headings, fit_g1, fresnel_moments, FitError, G1Fit, Waypoint,
     MAX_NEWTON_STEPS,
+};
+pub use geodesy::{
+    Ecef, Enu, GeoError, Geodetic, LocalFrame, WGS84_A, WGS84_B, WGS84_E2, WGS84_F, WGS84_INV_F,
 };
 pub use headland::{
     FieldEnd, HeadlandError, HeadlandTurn, TurnKind, TurnPolicy, MAX_TURN_SEGMENTS,
