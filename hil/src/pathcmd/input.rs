@@ -62,7 +62,7 @@ pub enum Coords {
 
 /// Reads CSV text (`name` is used in messages).
 pub fn parse_csv(name: &str, text: &str) -> Result<(Coords, Vec<RawPoint>, Vec<String>)> {
-    let mut header: Option<(Coords, usize, usize, Option<usize>, Option<usize>)> = None;
+    let mut header: Option<Header> = None;
     let mut points = Vec::new();
     let mut sources = Vec::new();
     for (i, line) in text.lines().enumerate() {
@@ -177,7 +177,7 @@ pub fn parse_geojson(name: &str, text: &str) -> Result<(Vec<RawPoint>, Vec<Strin
                 .get("geometry")
                 .filter(|g| !g.is_null())
                 .ok_or_else(|| anyhow!("{name}: the Feature has no geometry"))?;
-            line_string(name, "feature 0", geom)
+            line_string(name, &format!("feature 0{}", feature_name(&root)), geom)
         }
         "FeatureCollection" => {
             let features = root
