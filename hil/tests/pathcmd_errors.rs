@@ -2,11 +2,16 @@
 //! the feature and coordinate (GeoJSON) at fault.
 
 use std::path::PathBuf;
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+/// Tests run in parallel: each call gets its own directory.
+static CALLS: AtomicUsize = AtomicUsize::new(0);
 
 fn try_file(name: &str, text: &str, extra: &[&str]) -> String {
     let dir = std::env::temp_dir().join(format!(
-        "kappaline-pathcmd-bad-{}-{}",
+        "kappaline-pathcmd-bad-{}-{}-{}",
         std::process::id(),
+        CALLS.fetch_add(1, Ordering::Relaxed),
         name.replace('.', "_")
     ));
     std::fs::create_dir_all(&dir).unwrap();
