@@ -46,12 +46,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         if (t * 10.0).round() as i32 % 20 == 0 || tr.status != TrackStatus::OnPath {
             println!(
                 "{t:7.1} {:8.2} {:12.4} {:12.4} {:10.4} {:11.4}  {:?}",
-                tr.station,
-                tr.cross_track,
-                tr.heading_error,
-                tr.curvature,
-                tr.curvature_ahead,
-                tr.status
+                tr.station, tr.cross_track, tr.heading_error, tr.curvature, tr.curvature_ahead, tr.status
             );
         }
         if travel != kappaline::Travel::Within {
@@ -59,10 +54,6 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         }
         t += dt;
     }
-    println!(
-        "path length {:.3} m in {} segments",
-        path.length(),
-        path.len()
-    );
+    println!("path length {:.3} m in {} segments", path.length(), path.len());
     Ok(())
 }

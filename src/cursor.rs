@@ -146,13 +146,7 @@ impl<T: Real> Cursor<T> {
                     seg = if seg < last { seg + 1 } else { 0 };
                     continue;
                 }
-                return (
-                    Self {
-                        segment: seg,
-                        offset: len,
-                    },
-                    Travel::AtEnd,
-                );
+                return (Self { segment: seg, offset: len }, Travel::AtEnd);
             }
             if off < T::ZERO {
                 if seg > 0 || path.is_closed() {
@@ -160,21 +154,9 @@ impl<T: Real> Cursor<T> {
                     off += path.segment_length(seg);
                     continue;
                 }
-                return (
-                    Self {
-                        segment: 0,
-                        offset: T::ZERO,
-                    },
-                    Travel::AtStart,
-                );
+                return (Self { segment: 0, offset: T::ZERO }, Travel::AtStart);
             }
-            return (
-                Self {
-                    segment: seg,
-                    offset: off,
-                },
-                Travel::Within,
-            );
+            return (Self { segment: seg, offset: off }, Travel::Within);
         }
         Self::from_station(path, path.placed_at(seg).station + off)
     }
@@ -192,8 +174,8 @@ impl<T: Real> Cursor<T> {
         };
         let s = path.normalize_station(raw);
         let segment = path.find_segment(s);
-        let offset =
-            (s - path.placed_at(segment).station).clamp_to(T::ZERO, path.segment_length(segment));
+        let offset = (s - path.placed_at(segment).station)
+            .clamp_to(T::ZERO, path.segment_length(segment));
         (Self { segment, offset }, travel)
     }
 }

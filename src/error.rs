@@ -50,10 +50,7 @@ impl fmt::Display for PathError {
             }
             PathError::CapacityExceeded => f.write_str("more segments than the path can hold"),
             PathError::PositionGap { index } => {
-                write!(
-                    f,
-                    "segment {index} does not start where the previous one ends"
-                )
+                write!(f, "segment {index} does not start where the previous one ends")
             }
             PathError::HeadingGap { index } => write!(
                 f,

@@ -254,7 +254,8 @@ pub fn fit_g1<T: Real>(from: Pose<T>, to: Pose<T>) -> Result<G1Fit, FitError> {
     let dx = to.x.to_f64() - from.x.to_f64();
     let dy = to.y.to_f64() - from.y.to_f64();
     let r = libm::hypot(dx, dy);
-    if !(r > 0.0) || !r.is_finite() {
+    // Finite poses give a finite chord; a zero one has no direction.
+    if r == 0.0 || !r.is_finite() {
         return Err(FitError::CoincidentPoints);
     }
     let phi = libm::atan2(dy, dx);
@@ -263,7 +264,7 @@ pub fn fit_g1<T: Real>(from: Pose<T>, to: Pose<T>) -> Result<G1Fit, FitError> {
     let delta = phi1 - phi0;
     let (a, iterations) = solve_angle(phi0, phi1)?;
     let [(x0, _), _, _] = fresnel_moments(2.0 * a, delta - a, phi0);
-    if !(x0 > 0.0) {
+    if x0.is_nan() || x0 <= 0.0 {
         return Err(FitError::NoConvergence);
     }
     let length = r / x0;
@@ -362,7 +363,7 @@ pub fn estimate_headings<T: Real, const N: usize>(
         Some((h, (dx / h, dy / h)))
     };
     for i in 0..points.len() - 1 {
-        if chord(i).is_none_or(|(h, _)| !(h > 0.0)) {
+        if chord(i).is_none_or(|(h, _)| h.is_nan() || h <= 0.0) {
             return Err(FitError::BadWaypoint { index: i + 1 });
         }
     }

@@ -94,10 +94,7 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
             }
         }
     } else {
-        for u in clothoid_roots(path, i, lo, hi, qx, qy)
-            .into_iter()
-            .flatten()
-        {
+        for u in clothoid_roots(path, i, lo, hi, qx, qy).into_iter().flatten() {
             consider(u);
         }
     }

@@ -284,10 +284,7 @@ mod tests {
         for (r, u) in [(10.0f64, 3.0), (1e6, 250.0), (0.5, 2.0), (-20.0, 15.0)] {
             let lp = local_pose(1.0 / r, 0.0, u);
             // r (1 - cos(u/r)) written as 2 r sin^2(u/2r), free of cancellation.
-            let want = (
-                r * libm::sin(u / r),
-                2.0 * r * libm::sin(u / (2.0 * r)).powi(2),
-            );
+            let want = (r * libm::sin(u / r), 2.0 * r * libm::sin(u / (2.0 * r)).powi(2));
             assert!((lp.offset.re - want.0).abs() < 1e-12, "R={r}");
             assert!((lp.offset.im - want.1).abs() < 1e-12, "R={r}");
             assert!((lp.turn.re - libm::cos(u / r)).abs() < 1e-15);

@@ -289,9 +289,7 @@ impl<T: Real> Tracker<T> {
             }
         }
         let off_path = match status {
-            TrackStatus::OnPath => {
-                foot.dist2 > self.config.lost_distance * self.config.lost_distance
-            }
+            TrackStatus::OnPath => foot.dist2 > self.config.lost_distance * self.config.lost_distance,
             _ => lateral.abs() > self.config.lost_distance,
         };
         if off_path {
@@ -324,17 +322,9 @@ impl<T: Real> Tracker<T> {
         let mut best: Option<Foot<T>> = None;
         let mut seg = from.segment();
         for _ in 0..MAX_WINDOW_SEGMENTS {
-            let lo = if seg == from.segment() {
-                from.offset()
-            } else {
-                T::ZERO
-            };
+            let lo = if seg == from.segment() { from.offset() } else { T::ZERO };
             let last = seg == to.segment() && (seg != from.segment() || to.offset() >= lo);
-            let hi = if last {
-                to.offset()
-            } else {
-                path.segment_length(seg)
-            };
+            let hi = if last { to.offset() } else { path.segment_length(seg) };
             let f = nearest_on_segment(path, seg, lo, hi.max(lo), pose.x, pose.y);
             if best.is_none_or(|b| f.dist2 < b.dist2) {
                 best = Some(f);

@@ -1,3 +1,1 @@
-fn main() {
-    println!("kappaline-hil: harness not built yet");
-}
+fn main() { println!("kappaline-hil: harness not built yet"); }
