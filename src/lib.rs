@@ -81,3 +81,29 @@ pub use pose::{Direction, PathPoint, Pose};
 pub use real::Real;
 pub use segment::{Segment, SegmentKind};
 pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS};
+
+// Path building (issue 4).
+mod corner;
+mod feasibility;
+mod fit;
+mod geodesy;
+mod headland;
+mod lever_arm;
+mod passes;
+
+pub use corner::{corner_path, Corner, CornerConfig, CornerError, TurnShape};
+pub use feasibility::{check_path, FeasibilityReport, PathLimits, Violation, ViolationKind};
+pub use fit::{
+    clothoid_spline, estimate_headings, fit_g1, fresnel_moments, FitError, G1Fit, Waypoint,
+    MAX_NEWTON_STEPS,
+};
+pub use geodesy::{
+    Ecef, Enu, GeoError, Geodetic, LocalFrame, WGS84_A, WGS84_B, WGS84_E2, WGS84_F, WGS84_INV_F,
+};
+pub use headland::{
+    FieldEnd, HeadlandError, HeadlandTurn, TurnKind, TurnPolicy, MAX_TURN_SEGMENTS,
+};
+pub use lever_arm::{control_point, ControlPoint, LeverArm, LeverArmError};
+pub use passes::{
+    offset_curvature, reversed_path, Pass, PassError, PassPoint, PassTracking, Passes, Side,
+};

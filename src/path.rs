@@ -213,6 +213,24 @@ impl<T: Real, const N: usize> PathBuilder<T, N> {
         Ok(())
     }
 
+    /// Appends a segment after a cusp: the vehicle stops where the last
+    /// segment ends and drives on in the other direction, so the path
+    /// tangent (the direction of travel) turns by pi at the joint while the
+    /// body heading stays put. Give `seg` the opposite [`Direction`] of the
+    /// segment before it (e.g. with [`Segment::reversed`]).
+    ///
+    /// # Errors
+    /// As [`PathBuilder::push`]; the builder is unchanged on error.
+    pub fn try_push_cusp(&mut self, seg: Segment<T>) -> Result<(), PathError> {
+        let before = self.next;
+        self.next.theta += core::f64::consts::PI;
+        let pushed = self.try_push(seg);
+        if pushed.is_err() {
+            self.next = before;
+        }
+        pushed
+    }
+
     /// Number of segments so far.
     pub fn len(&self) -> usize {
         self.placed.len()
