@@ -7,8 +7,11 @@
 //! (it can live in a `static` beside it); pass the same path to every call.
 //!
 //! Positions are always evaluated from the current segment's anchor, never
-//! by summing steps, so a million small steps land exactly where one large
-//! step does.
+//! by summing steps. The offset into the segment is itself a running sum of
+//! steps, so it is kept compensated (the rounding error of every addition is
+//! carried to the next one, Knuth's TwoSum): in `f32`, 20 000 steps of 0.1 m
+//! land within a few tenths of a millimetre of one 2 km step, where a plain
+//! sum drifts by centimetres.
 
 use crate::error::PathError;
 use crate::path::Path;
@@ -25,6 +28,18 @@ const WALK_LIMIT: usize = 8;
 pub struct Cursor<T> {
     segment: usize,
     offset: T,
+    /// Rounding error of `offset` as a sum of steps (|carry| <= ulp(offset) / 2).
+    carry: T,
+}
+
+/// `a + b` as the rounded sum and its exact rounding error (Knuth's TwoSum,
+/// TAOCP vol. 2, 4.2.2; needs round-to-nearest, true for f32 and f64).
+#[inline]
+fn two_sum<T: Real>(a: T, b: T) -> (T, T) {
+    let s = a + b;
+    let bb = s - a;
+    let err = (a - (s - bb)) + (b - bb);
+    (s, err)
 }
 
 /// Where a cursor stopped after [`Cursor::advance`].
@@ -45,6 +60,7 @@ impl<T: Real> Cursor<T> {
         Self {
             segment: 0,
             offset: T::ZERO,
+            carry: T::ZERO,
         }
     }
 
@@ -60,12 +76,16 @@ impl<T: Real> Cursor<T> {
         let s = path.normalize_station(station);
         let segment = path.find_segment(s);
         let offset = s - path.placed_at(segment).station;
-        Ok(Self { segment, offset })
+        Ok(Self::on(segment, offset))
     }
 
     /// A cursor on `segment`, `offset` metres into it (trusted input).
     pub(crate) fn on(segment: usize, offset: T) -> Self {
-        Self { segment, offset }
+        Self {
+            segment,
+            offset,
+            carry: T::ZERO,
+        }
     }
 
     /// Distance into the current segment, metres.
@@ -134,49 +154,58 @@ impl<T: Real> Cursor<T> {
     pub(crate) fn moved<const N: usize>(&self, path: &Path<T, N>, ds: T) -> (Self, Travel) {
         let last = path.len().saturating_sub(1);
         let mut seg = self.segment.min(last);
-        let mut off = self.offset + ds;
+        // offset + ds, compensated: the new offset is off + carry.
+        let (mut off, e) = two_sum(self.offset, ds);
+        let mut carry = self.carry + e;
         if path.is_closed() && ds.abs() >= path.length() {
-            return Self::from_station(path, path.placed_at(seg).station + off);
+            return Self::from_station(path, path.placed_at(seg).station + (off + carry));
         }
         for _ in 0..WALK_LIMIT {
             let len = path.segment_length(seg);
             if off > len {
                 if seg < last || path.is_closed() {
-                    off -= len;
+                    let (o, e) = two_sum(off, -len);
+                    off = o;
+                    carry += e;
                     seg = if seg < last { seg + 1 } else { 0 };
                     continue;
                 }
-                return (
-                    Self {
-                        segment: seg,
-                        offset: len,
-                    },
-                    Travel::AtEnd,
-                );
+                return (Self::on(seg, len), Travel::AtEnd);
             }
             if off < T::ZERO {
                 if seg > 0 || path.is_closed() {
                     seg = if seg > 0 { seg - 1 } else { last };
-                    off += path.segment_length(seg);
+                    let (o, e) = two_sum(off, path.segment_length(seg));
+                    off = o;
+                    carry += e;
                     continue;
                 }
+                return (Self::on(0, T::ZERO), Travel::AtStart);
+            }
+            // Fold the carry back in (exactly, |carry| is tiny next to off
+            // unless off is near zero, where folding it is harmless).
+            let (o, c) = two_sum(off, carry);
+            if o < T::ZERO || o > len {
+                // The carry would push the offset over an end: keep it out.
                 return (
                     Self {
-                        segment: 0,
-                        offset: T::ZERO,
+                        segment: seg,
+                        offset: off,
+                        carry,
                     },
-                    Travel::AtStart,
+                    Travel::Within,
                 );
             }
             return (
                 Self {
                     segment: seg,
-                    offset: off,
+                    offset: o,
+                    carry: c,
                 },
                 Travel::Within,
             );
         }
-        Self::from_station(path, path.placed_at(seg).station + off)
+        Self::from_station(path, path.placed_at(seg).station + (off + carry))
     }
 
     /// The cursor at an absolute station (wrapped or clamped) by binary search.
@@ -194,7 +223,7 @@ impl<T: Real> Cursor<T> {
         let segment = path.find_segment(s);
         let offset =
             (s - path.placed_at(segment).station).clamp_to(T::ZERO, path.segment_length(segment));
-        (Self { segment, offset }, travel)
+        (Self::on(segment, offset), travel)
     }
 }
 

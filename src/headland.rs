@@ -208,7 +208,9 @@ impl<T: Real, const M: usize> HeadlandTurn<T, M> {
         // Check the construction against its target before handing it out.
         let end = turn.end_pose64()?;
         let miss = libm::hypot(end.x - t.x, end.y - t.y);
-        let tol = 1e-6 * (1.0 + libm::fabs(w) + libm::fabs(e));
+        // Rounding of the segments to T (f32 on a device) moves the end a little.
+        let scale = 1.0 + libm::fabs(w) + libm::fabs(e) + turn.length().to_f64();
+        let tol = (1e-6 + 100.0 * T::EPSILON.to_f64()) * scale;
         if miss.is_nan() || miss > tol || libm::fabs((end.heading - t.heading).wrap_angle()) > 1e-6
         {
             return Err(HeadlandError::NoSolution);

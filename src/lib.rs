@@ -28,7 +28,7 @@
 //! | [`Cursor`] | a position on the path, advanced in O(1) per step; lookahead |
 //! | [`Tracker`] | windowed projection: station, cross-track, heading error, curvature |
 //! | [`Real`] | the numeric backend (`f32`, `f64`) |
-//! | [`fresnel`], [`generalized_fresnel`] | Fresnel integrals in `no_std` |
+//! | [`fresnel()`], [`generalized_fresnel`] | Fresnel integrals in `no_std` |
 //!
 //! # Conventions
 //! Metres, radians, 1/m. Headings counter-clockwise from `+x`; curvature
@@ -91,12 +91,21 @@ pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGM
 // Path building (issue 4).
 mod corner;
 mod feasibility;
+mod fit;
+mod geodesy;
 mod headland;
 mod lever_arm;
 mod passes;
 
 pub use corner::{corner_path, Corner, CornerConfig, CornerError, TurnShape};
 pub use feasibility::{check_path, FeasibilityReport, PathLimits, Violation, ViolationKind};
+pub use fit::{
+    clothoid_spline, estimate_headings, fit_g1, fresnel_moments, FitError, G1Fit, Waypoint,
+    MAX_NEWTON_STEPS,
+};
+pub use geodesy::{
+    Ecef, Enu, GeoError, Geodetic, LocalFrame, WGS84_A, WGS84_B, WGS84_E2, WGS84_F, WGS84_INV_F,
+};
 pub use headland::{
     FieldEnd, HeadlandError, HeadlandTurn, TurnKind, TurnPolicy, MAX_TURN_SEGMENTS,
 };

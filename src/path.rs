@@ -152,7 +152,7 @@ impl Anchor64 {
 /// assert!((path.length() - 80.0).abs() < 1e-12);
 /// # Ok(()) }
 /// ```
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct PathBuilder<T: Real, const N: usize> {
     placed: Vec<Placed<T>, N>,
     start: Anchor64,
@@ -185,7 +185,11 @@ impl<T: Real, const N: usize> PathBuilder<T, N> {
     /// # Errors
     /// [`PathError::CapacityExceeded`] when `N` segments are already held;
     /// [`PathError::NonFinite`] if the segment's end would lie at a
-    /// non-finite position. The builder is unchanged on error.
+    /// non-finite position (in `f64` or in `T`);
+    /// [`PathError::NonPositiveLength`] if the segment is shorter than the
+    /// resolution of `T` at its station (its end station would not move).
+    /// `push` consumes the builder, so on error it is gone; use
+    /// [`PathBuilder::try_push`] to keep it.
     pub fn push(mut self, seg: Segment<T>) -> Result<Self, PathError> {
         self.try_push(seg)?;
         Ok(self)
@@ -201,10 +205,7 @@ impl<T: Real, const N: usize> PathBuilder<T, N> {
             return Err(PathError::CapacityExceeded);
         }
         let after = self.next.after(&seg.cast::<f64>());
-        let finite = after.x.is_finite() && after.y.is_finite() && after.theta.is_finite();
-        if !finite || !T::from_f64(after.station).is_finite() {
-            return Err(PathError::NonFinite { index });
-        }
+        check_after::<T>(&self.next, &after, index)?;
         self.placed
             .push(self.next.place(&seg))
             .map_err(|_| PathError::CapacityExceeded)?;
@@ -299,7 +300,7 @@ pub struct AnchoredSegment<T> {
 ///
 /// Built with [`PathBuilder`] or [`Path::from_anchored`]; always holds at
 /// least one segment. See the module documentation for the storage layout.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Path<T: Real, const N: usize> {
     placed: Vec<Placed<T>, N>,
     total: T,
@@ -366,9 +367,7 @@ impl<T: Real, const N: usize> Path<T, N> {
             }
             let seg64 = part.segment.cast::<f64>();
             let end = a.after(&seg64);
-            if !(end.x.is_finite() && end.y.is_finite()) {
-                return Err(PathError::NonFinite { index });
-            }
+            check_after::<T>(&a, &end, index)?;
             placed
                 .push(a.place(&part.segment))
                 .map_err(|_| PathError::CapacityExceeded)?;
@@ -455,7 +454,8 @@ impl<T: Real, const N: usize> Path<T, N> {
     }
 
     /// The path at `station` metres. On an open path the station is clamped
-    /// to `[0, length]`; on a closed path it wraps.
+    /// to `[0, length]`; on a closed path it wraps. A NaN station gives a
+    /// NaN point (never a panic); [`Path::try_at`] refuses it instead.
     ///
     /// Cost: a binary search over the segments (O(log N)) and one segment
     /// evaluation. Use a [`crate::Cursor`] for stepping along the path.
@@ -463,6 +463,19 @@ impl<T: Real, const N: usize> Path<T, N> {
         let s = self.normalize_station(station);
         let i = self.find_segment(s);
         self.eval_in(i, s - self.placed_at(i).station)
+    }
+
+    /// As [`Path::at`], refusing a station that is NaN or infinite (where
+    /// [`Path::at`] gives a NaN point).
+    ///
+    /// # Errors
+    /// [`PathError::NonFinite`] (with `index` `usize::MAX`).
+    pub fn try_at(&self, station: T) -> Result<PathPoint<T>, PathError> {
+        if station.is_finite() {
+            Ok(self.at(station))
+        } else {
+            Err(PathError::NonFinite { index: usize::MAX })
+        }
     }
 
     /// The end pose of the path (metres, radians).
@@ -474,7 +487,7 @@ impl<T: Real, const N: usize> Path<T, N> {
     #[inline]
     pub(crate) fn segment_length(&self, index: usize) -> T {
         let start = self.placed_at(index).station;
-        match self.placed.get(index + 1) {
+        match self.placed.get(index.saturating_add(1)) {
             Some(n) => n.station - start,
             None => self.total - start,
         }
@@ -483,7 +496,10 @@ impl<T: Real, const N: usize> Path<T, N> {
     /// Where segment `index` ends: the next anchor, or the path's end.
     #[inline]
     pub(crate) fn segment_end(&self, index: usize) -> (T, T) {
-        let e = self.placed.get(index + 1).unwrap_or(&self.end);
+        let e = self
+            .placed
+            .get(index.saturating_add(1))
+            .unwrap_or(&self.end);
         (e.x, e.y)
     }
 
@@ -541,6 +557,25 @@ impl<T: Real, const N: usize> Path<T, N> {
     }
 }
 
+/// Checks the anchor `after` that a segment started at `before` reaches:
+/// finite in `T` as well as in `f64`, and a station that moves forward in
+/// `T` (a segment shorter than the station's resolution in `T`, e.g. 0.1 mm
+/// at 2 km in `f32`, would have zero length there).
+fn check_after<T: Real>(
+    before: &Anchor64,
+    after: &Anchor64,
+    index: usize,
+) -> Result<(), PathError> {
+    let in_t = |v: f64| v.is_finite() && T::from_f64(v).is_finite();
+    if !(in_t(after.x) && in_t(after.y) && in_t(after.station) && after.theta.is_finite()) {
+        return Err(PathError::NonFinite { index });
+    }
+    if T::from_f64(after.station) <= T::from_f64(before.station) {
+        return Err(PathError::NonPositiveLength { index });
+    }
+    Ok(())
+}
+
 fn check_joint(
     end: &Anchor64,
     next: &Anchor64,
@@ -548,10 +583,10 @@ fn check_joint(
     index: usize,
 ) -> Result<(), PathError> {
     let (dp, dh) = end.gaps(next);
-    if !(dp <= tol.position) {
+    if dp.is_nan() || dp > tol.position {
         return Err(PathError::PositionGap { index });
     }
-    if !(dh <= tol.heading) {
+    if dh.is_nan() || dh > tol.heading {
         return Err(PathError::HeadingGap { index });
     }
     Ok(())

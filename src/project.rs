@@ -10,7 +10,7 @@
 //!   `kappa u = atan2(kappa qx, 1 - kappa qy)` in the segment frame, plus
 //!   whole turns, clamped. Exact for radii from millimetres to 1e12 m.
 //! * Clothoid: the search interval is cut into pieces turning at most
-//!   pi/4 each; where `f` changes sign from negative to positive (a local
+//!   pi/4 each (up to 256 pieces, a turn of 200 rad); where `f` changes sign from negative to positive (a local
 //!   minimum of the distance) a Newton iteration refines it, safeguarded by
 //!   bisection so it never leaves the bracket. The inside of a tight curve,
 //!   where `f' -> 0`, falls back to bisection.
@@ -21,8 +21,12 @@
 use crate::path::Path;
 use crate::real::{c, Real};
 
-/// At most this many pieces per clothoid interval (bounded cost).
-const MAX_PIECES: u32 = 16;
+/// At most this many pieces per clothoid interval (bounded cost). Enough for
+/// a turn of 200 rad (32 laps) in one interval at pi/4 per piece; beyond that
+/// the pieces turn more and a local minimum can be missed. A window of a few
+/// metres needs one or two pieces; the whole-path acquisition of a long,
+/// tight spiral needs dozens.
+const MAX_PIECES: u32 = 256;
 /// Newton/bisection iterations per bracket.
 const MAX_ITER: u32 = 48;
 
@@ -58,8 +62,22 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
         offset: lo,
         dist2: dist2(lo),
     };
+    if hi > lo {
+        let d = dist2(hi);
+        if d < best.dist2 {
+            best = Foot {
+                segment: i,
+                offset: hi,
+                dist2: d,
+            };
+        }
+    }
     let mut consider = |u: T| {
-        let u = u.clamp_to(lo, hi);
+        // The ends are already in `best`: a candidate outside the interval
+        // would clamp to one of them, so skip its evaluation (and its trig).
+        if !(u > lo && u < hi) {
+            return;
+        }
         let d = dist2(u);
         if d < best.dist2 {
             best = Foot {
@@ -69,7 +87,6 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
             };
         }
     };
-    consider(hi);
     // q in the segment's own frame.
     let dx = qx - pl.x;
     let dy = qy - pl.y;
@@ -82,11 +99,15 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
         } else {
             let u0 = (k * lx).atan2(T::ONE - k * ly) / k;
             let period = T::TWO * T::PI / k.abs();
-            // Whole turns that bring u0 into the interval (at most two fit
-            // in any interval shorter than a lap; longer ones see three).
-            let base = u0 + ((lo - u0) / period).floor() * period;
-            for n in 0..4u32 {
-                let u = base + T::from_u32(n) * period;
+            // The feet are u0 + n period; the first one at or past `lo` has
+            // n = n_lo. Its neighbours cover any interval up to two laps long
+            // (the window is far shorter). u0 itself is used unshifted when
+            // n = 0: for a radius of 1e12 m the period is 6e12 m, and
+            // `u0 - period + period` would keep only millimetres of u0.
+            let n_lo = -((u0 - lo) / period).floor();
+            for j in 0..4u32 {
+                let n = n_lo - T::ONE + T::from_u32(j);
+                let u = if n == T::ZERO { u0 } else { u0 + n * period };
                 if u > hi + period {
                     break;
                 }
@@ -94,17 +115,13 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
             }
         }
     } else {
-        for u in clothoid_roots(path, i, lo, hi, qx, qy)
-            .into_iter()
-            .flatten()
-        {
-            consider(u);
-        }
+        clothoid_roots(path, i, lo, hi, qx, qy, &mut consider);
     }
     best
 }
 
-/// Local minima of the distance on a clothoid interval (up to `MAX_PIECES`).
+/// Local minima of the distance on a clothoid interval, each passed to
+/// `found` (at most one per piece, at most `MAX_PIECES` pieces).
 fn clothoid_roots<T: Real, const N: usize>(
     path: &Path<T, N>,
     i: usize,
@@ -112,24 +129,16 @@ fn clothoid_roots<T: Real, const N: usize>(
     hi: T,
     qx: T,
     qy: T,
-) -> [Option<T>; MAX_PIECES as usize] {
+    found: &mut impl FnMut(T),
+) {
     let pl = *path.placed_at(i);
-    let mut out = [None; MAX_PIECES as usize];
     let kappa_lo = (pl.kappa0 + pl.sigma * lo).abs();
     let kappa_hi = (pl.kappa0 + pl.sigma * hi).abs();
     let turn = kappa_lo.max(kappa_hi) * (hi - lo);
     let quarter: T = c(core::f64::consts::FRAC_PI_4);
-    let want = (turn / quarter).floor() + T::ONE;
-    let pieces = if want < T::from_u32(MAX_PIECES) {
-        // `want` is a small whole number here.
-        let mut n = 1u32;
-        while T::from_u32(n) < want {
-            n += 1;
-        }
-        n
-    } else {
-        MAX_PIECES
-    };
+    // `as` saturates (and maps NaN to 0), so this is total.
+    let want = ((turn / quarter).to_f64() as u32).saturating_add(1);
+    let pieces = want.clamp(1, MAX_PIECES);
     let width = (hi - lo) / T::from_u32(pieces);
     // f(u) = (p - q) . T and the lateral offset d = (q - p) . N.
     let f_and_slope = |u: T| {
@@ -142,20 +151,20 @@ fn clothoid_roots<T: Real, const N: usize>(
     };
     let mut a = lo;
     let mut fa = f_and_slope(a).0;
-    for (k, slot) in out.iter_mut().enumerate().take(pieces as usize) {
-        let b = if k + 1 == pieces as usize {
+    for k in 1..=pieces {
+        let b = if k == pieces {
             hi
         } else {
-            lo + width * T::from_u32(k as u32 + 1)
+            lo + width * T::from_u32(k)
         };
         let fb = f_and_slope(b).0;
-        if fa < T::ZERO && fb > T::ZERO {
-            *slot = Some(refine(a, b, fa, fb, &f_and_slope));
+        // `>=`: a foot exactly on a piece boundary is a root of this piece.
+        if fa < T::ZERO && fb >= T::ZERO {
+            found(refine(a, b, fa, fb, &f_and_slope));
         }
         a = b;
         fa = fb;
     }
-    out
 }
 
 /// Safeguarded Newton in the bracket `[a, b]` with `f(a) < 0 < f(b)`.

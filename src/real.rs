@@ -97,7 +97,9 @@ pub trait Real:
     /// Wraps an angle in radians into `(-pi, pi]`.
     ///
     /// Exact for angles already in range; for others one `floor`, so the
-    /// cost does not depend on how many turns the input holds.
+    /// cost does not depend on how many turns the input holds. Any finite
+    /// input lands in range (huge ones through `sin_cos` and `atan2`); NaN
+    /// and infinities give NaN.
     #[inline]
     fn wrap_angle(self) -> Self {
         if self > -Self::PI && self <= Self::PI {
@@ -112,7 +114,23 @@ pub trait Real:
         } else if r > Self::PI {
             r -= turn;
         }
-        r
+        if r > -Self::PI && r <= Self::PI {
+            return r;
+        }
+        if !self.is_finite() {
+            // NaN in, NaN out (infinity has no angle either: 0 * inf is NaN).
+            return self * Self::ZERO;
+        }
+        // |self| so large that k * turn is off by more than a turn (beyond
+        // about 1e15 rad in f64, 1e7 rad in f32): the angle is meaningless at
+        // that size, but the result must still be in range.
+        let (s, c) = self.sin_cos();
+        let w = s.atan2(c);
+        if w > -Self::PI && w <= Self::PI {
+            w
+        } else {
+            Self::PI
+        }
     }
 }
 

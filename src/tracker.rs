@@ -36,8 +36,10 @@ use crate::pose::{PathPoint, Pose};
 use crate::project::{nearest_on_segment, Foot};
 use crate::real::{c, Real};
 
-/// The projection window covers at most this many segments; a window over
-/// more (very short) segments is cut at its far end.
+/// The projection window covers at most this many segments, half of them
+/// behind the last foot point and half ahead (its own segment counts on both
+/// sides); a window over more (very short) segments is cut at its far ends,
+/// so the segments next to the foot are always searched.
 pub const MAX_WINDOW_SEGMENTS: usize = 32;
 
 /// Tracker settings. All distances in metres.
@@ -218,6 +220,18 @@ impl<T: Real> Tracker<T> {
         self.acquired = false;
     }
 
+    /// Takes a known position on the path (e.g. resuming a pass at a
+    /// recorded station, or a supervisor's choice between candidate passes):
+    /// the tracker counts as acquired there and the next update searches the
+    /// window around it, with no whole-path search.
+    ///
+    /// The cursor must belong to the path later passed to [`Tracker::update`];
+    /// an index past its end is clamped to its last segment.
+    pub fn resume_at(&mut self, cursor: Cursor<T>) {
+        self.cursor = cursor;
+        self.acquired = true;
+    }
+
     /// Projects `pose` (control point position in metres, body heading in
     /// radians) onto `path` within the window around the last foot point, or
     /// over the whole path if the tracker has not acquired it yet.
@@ -314,45 +328,89 @@ impl<T: Real> Tracker<T> {
     }
 
     /// Nearest point within the station window around the cursor.
+    ///
+    /// Walks forwards from the cursor to the window's far end and backwards
+    /// to its near end, each walk over at most half of
+    /// [`MAX_WINDOW_SEGMENTS`] segments, so the segments next to the foot
+    /// are always searched however short the segments are, and a window
+    /// that wraps round a closed path onto the segment it started on is
+    /// searched on both sides of the cursor.
     fn search_window<const N: usize>(&self, path: &Path<T, N>, pose: &Pose<T>) -> Foot<T> {
         let span = self.config.window_back + self.config.window_ahead;
         if path.is_closed() && span >= path.length() {
             return nearest_anywhere(path, pose.x, pose.y);
         }
+        let last = path.len().saturating_sub(1);
+        let here = self.cursor.segment().min(last);
+        let offset = self
+            .cursor
+            .offset()
+            .clamp_to(T::ZERO, path.segment_length(here));
         let (from, _) = self.cursor.moved(path, -self.config.window_back);
         let (to, _) = self.cursor.moved(path, self.config.window_ahead);
-        let mut best: Option<Foot<T>> = None;
-        let mut seg = from.segment();
-        for k in 0..MAX_WINDOW_SEGMENTS {
-            // Only the first piece starts inside its segment; on a loop the
-            // walk can come back to the starting segment for the last piece.
-            let lo = if k == 0 { from.offset() } else { T::ZERO };
-            let last = seg == to.segment() && (k > 0 || to.offset() >= lo);
-            let hi = if last {
+        let mut best = Foot {
+            segment: here,
+            offset,
+            dist2: T::ZERO,
+        };
+        let mut found = false;
+        let mut keep = |f: Foot<T>| {
+            if !found || f.dist2 < best.dist2 {
+                best = f;
+                found = true;
+            }
+        };
+        // Forwards: [offset, end of segment], the next segments, up to `to`.
+        let mut seg = here;
+        let mut lo = offset;
+        for _ in 0..HALF_WINDOW {
+            let at_end = seg == to.segment() && to.offset() >= lo;
+            let hi = if at_end {
                 to.offset()
             } else {
                 path.segment_length(seg)
             };
-            let f = nearest_on_segment(path, seg, lo, hi.max(lo), pose.x, pose.y);
-            if best.is_none_or(|b| f.dist2 < b.dist2) {
-                best = Some(f);
-            }
-            if last {
+            keep(nearest_on_segment(
+                path,
+                seg,
+                lo,
+                hi.max(lo),
+                pose.x,
+                pose.y,
+            ));
+            if at_end {
                 break;
             }
-            seg = if seg + 1 < path.len() {
-                seg + 1
-            } else if path.is_closed() {
-                0
-            } else {
-                break;
-            };
+            match next_segment(path, seg) {
+                Some(n) => seg = n,
+                None => break,
+            }
+            lo = T::ZERO;
         }
-        best.unwrap_or(Foot {
-            segment: self.cursor.segment(),
-            offset: self.cursor.offset(),
-            dist2: T::ZERO,
-        })
+        // Backwards: [start of segment, offset], the segments before, down to `from`.
+        let mut seg = here;
+        let mut hi = offset;
+        for _ in 0..HALF_WINDOW {
+            let at_start = seg == from.segment() && from.offset() <= hi;
+            let lo = if at_start { from.offset() } else { T::ZERO };
+            keep(nearest_on_segment(
+                path,
+                seg,
+                lo,
+                hi.max(lo),
+                pose.x,
+                pose.y,
+            ));
+            if at_start {
+                break;
+            }
+            match previous_segment(path, seg) {
+                Some(p) => seg = p,
+                None => break,
+            }
+            hi = path.segment_length(seg);
+        }
+        best
     }
 
     /// Nearest point on the whole path, with the heading weight applied.
@@ -388,6 +446,31 @@ impl<T: Real> Tracker<T> {
             offset: T::ZERO,
             dist2: T::ZERO,
         })
+    }
+}
+
+/// Segments searched on each side of the foot (its own counts on both).
+const HALF_WINDOW: usize = MAX_WINDOW_SEGMENTS / 2;
+
+/// The segment after `seg`: wraps on a closed path, `None` past the end of an open one.
+fn next_segment<T: Real, const N: usize>(path: &Path<T, N>, seg: usize) -> Option<usize> {
+    if seg + 1 < path.len() {
+        Some(seg + 1)
+    } else if path.is_closed() {
+        Some(0)
+    } else {
+        None
+    }
+}
+
+/// The segment before `seg`: wraps on a closed path, `None` before the start of an open one.
+fn previous_segment<T: Real, const N: usize>(path: &Path<T, N>, seg: usize) -> Option<usize> {
+    if seg > 0 {
+        Some(seg - 1)
+    } else if path.is_closed() {
+        Some(path.len().saturating_sub(1))
+    } else {
+        None
     }
 }
 

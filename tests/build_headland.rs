@@ -190,3 +190,26 @@ fn bad_input_is_refused() {
     );
     assert_eq!(r.err(), Some(kappaline::HeadlandError::BadInput));
 }
+
+mod random {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(300))]
+        #[test]
+        fn any_spacing_and_limits(
+            w in -40.0f64..40.0, e in -5.0f64..5.0, heading in -3.0f64..3.0,
+            kappa in 0.05f64..0.5, sharp in 0.01f64..0.5, reverse in any::<bool>(),
+        ) {
+            prop_assume!(w.abs() > 0.05);
+            let limits = PathLimits::new(kappa, Some(sharp), 1e-9).unwrap();
+            let from = Pose::new(30.0, -20.0, heading);
+            let (s, c) = heading.sin_cos();
+            let to = Pose::new(30.0 + e * c - w * s, -20.0 + e * s + w * c, (heading + PI).wrap_angle());
+            let policy = if reverse { TurnPolicy::AllowReverse } else { TurnPolicy::ForwardOnly };
+            let turn = HeadlandTurn::<f64, 12>::between(from, to, &limits, policy).unwrap();
+            check_turn(&turn, &limits, from, to);
+        }
+    }
+}

@@ -1,4 +1,4 @@
-//! The command line: `run`, `list`, `check`, `sweep`, `bench`.
+//! The command line: `run`, `list`, `check`, `sweep`, `bench`, `build-path`.
 
 use std::path::PathBuf;
 use std::process::ExitCode;
@@ -37,6 +37,14 @@ enum Verb {
     Sweep(SweepArgs),
     /// Measure simulated seconds per wall-clock second.
     Bench(BenchArgs),
+    /// Build a path from waypoints (CSV or GeoJSON) into a firmware source
+    /// file and an SVG preview; `build-path --help` lists its options.
+    #[command(disable_help_flag = true)]
+    BuildPath {
+        /// Arguments of the path-building command.
+        #[arg(trailing_var_arg = true, allow_hyphen_values = true)]
+        args: Vec<String>,
+    },
 }
 
 #[derive(Debug, Args)]
@@ -181,6 +189,10 @@ fn dispatch(verb: Verb) -> anyhow::Result<bool> {
         Verb::Run(a) => run_verb(a),
         Verb::Sweep(a) => sweep_verb(a),
         Verb::Bench(a) => bench_verb(a),
+        Verb::BuildPath { args } => {
+            crate::pathcmd::run(&args)?;
+            Ok(true)
+        }
     }
 }
 

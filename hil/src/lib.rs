@@ -5,6 +5,9 @@
 //! with the controller behind the [`firmware::Firmware`] trait ->
 //! [`metrics::compute`] and [`metrics::check`] -> [`report`].
 //!
+//! [`pathcmd`] is the `build-path` command (waypoints from CSV or GeoJSON
+//! to a firmware `const` source file and an SVG preview).
+//!
 //! # Safety of use
 //! A simulation passing its thresholds is evidence, not proof: this harness
 //! is not a certified safety function. A machine steered by kappaline needs
@@ -16,6 +19,7 @@ pub mod closed_loop;
 pub mod controller;
 pub mod firmware;
 pub mod metrics;
+pub mod pathcmd;
 pub mod report;
 pub mod runner;
 pub mod scenario;

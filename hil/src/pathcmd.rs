@@ -1,0 +1,366 @@
+//! `build-path`: waypoints (CSV or GeoJSON) to a drivable kappaline path,
+//! checked against vehicle limits, written as a Rust `const` source file for
+//! firmware and an SVG preview.
+//!
+//! ```text
+//! build-path --input FILE (.csv | .geojson | .json) --out-rs FILE [--out-svg FILE]
+//!            [--mode corners|spline] [--radius M] [--max-sharpness S]
+//!            [--max-curvature K] [--max-curvature-rate R --speed V]
+//!            [--origin LAT,LON[,HEIGHT]] [--name IDENT] [--strict]
+//! ```
+//!
+//! * `--mode corners` (default): lines joined by clothoid-arc-clothoid
+//!   corners of radius `--radius` (default 6 m) and clothoid sharpness
+//!   `--max-sharpness` (1/m^2; plain arcs if none is given or derived);
+//! * `--mode spline`: a G1 clothoid spline through the waypoints, at the
+//!   headings of the `heading_deg` column or estimated by the Bessel
+//!   (three-point) rule;
+//! * limits for the feasibility check: maximum curvature `--max-curvature`
+//!   (default `1 / radius`), maximum sharpness `--max-sharpness`, or the
+//!   curvature rate `--max-curvature-rate` (1/m/s) divided by `--speed`
+//!   (m/s); curvature jumps above 1e-6 1/m are reported;
+//! * `--strict` makes a limit violation an error (the files are still written).
+//!
+//! Input formats: see [`input`]. Output: see [`output::rust_const`]. There is
+//! no binary path format yet; the `const` file is the firmware hand-over.
+//!
+//! Caution: a generated path is not a safety function. Check it in the
+//! preview and on the machine at low speed, with an independent emergency
+//! stop (see the kappaline crate documentation).
+
+pub mod input;
+pub mod output;
+
+use std::path::PathBuf;
+
+use anyhow::{anyhow, bail, Context, Result};
+use kappaline::{
+    check_path, clothoid_spline, corner_path, AnchoredSegment, Continuity, Corner, CornerConfig,
+    CornerError, FeasibilityReport, FitError, Path, PathLimits, Pose, Segment, Waypoint,
+};
+
+/// Most segments a built path may have.
+pub const MAX_SEGMENTS: usize = 512;
+/// Most violations listed (all are counted).
+pub const MAX_VIOLATIONS: usize = 64;
+
+/// How to join the waypoints.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Mode {
+    /// Lines and clothoid-arc-clothoid corners.
+    Corners,
+    /// A G1 clothoid spline.
+    Spline,
+}
+
+/// Options of `build-path`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Options {
+    /// Waypoint file.
+    pub input: PathBuf,
+    /// Rust source to write.
+    pub out_rs: PathBuf,
+    /// SVG preview to write, if any.
+    pub out_svg: Option<PathBuf>,
+    /// Corners or spline.
+    pub mode: Mode,
+    /// Corner radius, metres.
+    pub radius: f64,
+    /// Clothoid sharpness for corners and limit for the check, 1/m^2.
+    pub max_sharpness: Option<f64>,
+    /// Curvature limit for the check, 1/m (default `1 / radius`).
+    pub max_curvature: Option<f64>,
+    /// Curvature-rate limit, 1/m/s (with `speed`, gives the sharpness limit).
+    pub max_curvature_rate: Option<f64>,
+    /// Planned speed, m/s.
+    pub speed: Option<f64>,
+    /// Geodetic origin (degrees, degrees, metres).
+    pub origin: Option<(f64, f64, f64)>,
+    /// Prefix of the generated constants.
+    pub name: String,
+    /// Fail on a limit violation.
+    pub strict: bool,
+}
+
+const USAGE: &str = "usage: build-path --input FILE --out-rs FILE [--out-svg FILE] \
+[--mode corners|spline] [--radius M] [--max-sharpness S] [--max-curvature K] \
+[--max-curvature-rate R --speed V] [--origin LAT,LON[,HEIGHT]] [--name IDENT] [--strict]";
+
+/// Parses the arguments after the verb (a leading `build-path` is skipped).
+pub fn parse_args(args: &[String]) -> Result<Options> {
+    let mut it = args.iter().peekable();
+    if it.peek().is_some_and(|a| a.as_str() == "build-path") {
+        it.next();
+    }
+    let mut input = None;
+    let mut out_rs = None;
+    let mut o = Options {
+        input: PathBuf::new(),
+        out_rs: PathBuf::new(),
+        out_svg: None,
+        mode: Mode::Corners,
+        radius: 6.0,
+        max_sharpness: None,
+        max_curvature: None,
+        max_curvature_rate: None,
+        speed: None,
+        origin: None,
+        name: "PATH".into(),
+        strict: false,
+    };
+    while let Some(flag) = it.next() {
+        let mut value = || {
+            it.next()
+                .cloned()
+                .ok_or_else(|| anyhow!("{flag} needs a value\n{USAGE}"))
+        };
+        let number = |v: String, flag: &str| -> Result<f64> {
+            let x: f64 = v
+                .parse()
+                .map_err(|_| anyhow!("{flag}: cannot read {v:?} as a number"))?;
+            if !(x.is_finite() && x > 0.0) {
+                bail!("{flag}: {v} must be positive and finite");
+            }
+            Ok(x)
+        };
+        match flag.as_str() {
+            "--input" => input = Some(PathBuf::from(value()?)),
+            "--out-rs" => out_rs = Some(PathBuf::from(value()?)),
+            "--out-svg" => o.out_svg = Some(PathBuf::from(value()?)),
+            "--mode" => {
+                o.mode = match value()?.as_str() {
+                    "corners" => Mode::Corners,
+                    "spline" => Mode::Spline,
+                    other => bail!("--mode: {other:?} is neither corners nor spline"),
+                }
+            }
+            "--radius" => o.radius = number(value()?, flag)?,
+            "--max-sharpness" => o.max_sharpness = Some(number(value()?, flag)?),
+            "--max-curvature" => o.max_curvature = Some(number(value()?, flag)?),
+            "--max-curvature-rate" => o.max_curvature_rate = Some(number(value()?, flag)?),
+            "--speed" => o.speed = Some(number(value()?, flag)?),
+            "--origin" => o.origin = Some(parse_origin(&value()?)?),
+            "--name" => {
+                let n = value()?;
+                let ok = n.chars().next().is_some_and(|c| c.is_ascii_alphabetic())
+                    && n.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
+                if !ok {
+                    bail!("--name: {n:?} is not an identifier");
+                }
+                o.name = n.to_ascii_uppercase();
+            }
+            "--strict" => o.strict = true,
+            "--help" | "-h" => bail!("{USAGE}"),
+            other => bail!("unknown option {other:?}\n{USAGE}"),
+        }
+    }
+    o.input = input.ok_or_else(|| anyhow!("--input is required\n{USAGE}"))?;
+    o.out_rs = out_rs.ok_or_else(|| anyhow!("--out-rs is required\n{USAGE}"))?;
+    if o.max_curvature_rate.is_some() != o.speed.is_some() {
+        bail!("--max-curvature-rate and --speed go together");
+    }
+    Ok(o)
+}
+
+fn parse_origin(v: &str) -> Result<(f64, f64, f64)> {
+    let parts: Vec<f64> = v
+        .split(',')
+        .map(|p| p.trim().parse::<f64>())
+        .collect::<Result<_, _>>()
+        .map_err(|_| anyhow!("--origin: cannot read {v:?} as LAT,LON[,HEIGHT]"))?;
+    match parts.as_slice() {
+        [lat, lon] => Ok((*lat, *lon, 0.0)),
+        [lat, lon, h] => Ok((*lat, *lon, *h)),
+        _ => bail!("--origin: {v:?} is not LAT,LON[,HEIGHT]"),
+    }
+}
+
+/// A built path and what was found about it.
+pub struct Built {
+    /// The path (boxed: it holds up to [`MAX_SEGMENTS`] segments).
+    pub path: Box<Path<f64, MAX_SEGMENTS>>,
+    /// Corners (corner mode).
+    pub corners: Vec<Corner<f64>>,
+    /// Feasibility against the limits.
+    pub report: FeasibilityReport<f64, MAX_VIOLATIONS>,
+    /// The waypoints, local metres.
+    pub waypoints: input::Waypoints,
+    /// The limits checked.
+    pub limits: PathLimits<f64>,
+}
+
+/// The limits the options describe.
+pub fn limits(o: &Options) -> Result<PathLimits<f64>> {
+    let sharp = match (o.max_sharpness, o.max_curvature_rate, o.speed) {
+        (Some(s), _, _) => Some(s),
+        (None, Some(r), Some(v)) => Some(r / v),
+        _ => None,
+    };
+    PathLimits::new(o.max_curvature.unwrap_or(1.0 / o.radius), sharp, 1e-6)
+        .map_err(|e| anyhow!("vehicle limits: {e}"))
+}
+
+/// Reads the waypoints and builds and checks the path (no files written).
+pub fn build(o: &Options) -> Result<Built> {
+    let wp = input::read_waypoints(&o.input, o.origin)?;
+    let limits = limits(o)?;
+    let src = |i: usize| {
+        wp.sources
+            .get(i)
+            .cloned()
+            .unwrap_or_else(|| format!("waypoint {i}"))
+    };
+    let (path, corners) = match o.mode {
+        Mode::Corners => {
+            let pts: Vec<(f64, f64)> = wp.points.iter().map(|p| (p.0, p.1)).collect();
+            let cfg = CornerConfig {
+                radius: o.radius,
+                max_sharpness: limits.max_sharpness,
+            };
+            let (p, c) = corner_path::<f64, MAX_SEGMENTS, MAX_SEGMENTS>(&pts, &cfg)
+                .map_err(|e| corner_message(e, &src))?;
+            (Box::new(p), c.into_iter().collect())
+        }
+        Mode::Spline => {
+            let pts: Vec<Waypoint<f64>> = wp
+                .points
+                .iter()
+                .map(|&(x, y, heading)| Waypoint { x, y, heading })
+                .collect();
+            let p = clothoid_spline::<f64, MAX_SEGMENTS>(&pts).map_err(|e| match e {
+                FitError::BadWaypoint { index } => {
+                    anyhow!(
+                        "{}: waypoint repeats the one before it or is not finite",
+                        src(index)
+                    )
+                }
+                other => anyhow!("clothoid spline: {other}"),
+            })?;
+            (Box::new(p), Vec::new())
+        }
+    };
+    let report = check_path::<f64, MAX_SEGMENTS, MAX_VIOLATIONS>(&path, &limits);
+    Ok(Built {
+        path,
+        corners,
+        report,
+        waypoints: wp,
+        limits,
+    })
+}
+
+fn corner_message(e: CornerError, src: &dyn Fn(usize) -> String) -> anyhow::Error {
+    match e {
+        CornerError::NonFinite { index } => anyhow!("{}: not a finite position", src(index)),
+        CornerError::Repeated { index } => anyhow!("{}: repeats the waypoint before it", src(index)),
+        CornerError::Reversal { index } => {
+            anyhow!("{}: the waypoints double back here; no corner can turn 180 degrees", src(index))
+        }
+        CornerError::LegTooShort { index } => anyhow!(
+            "{}: the leg ending here is too short for the corners at its ends (lower --radius or move the points apart)",
+            src(index)
+        ),
+        other => anyhow!("corners: {other}"),
+    }
+}
+
+/// Loads the path the way firmware does from the `const` tuples (anchors
+/// checked by [`Path::from_anchored`]), in `f32`.
+pub fn reload_f32(path: &Path<f64, MAX_SEGMENTS>) -> Result<Path<f32, MAX_SEGMENTS>> {
+    let mut parts = Vec::with_capacity(path.len());
+    for i in 0..path.len() {
+        let (Some(a), Some(s)) = (path.anchor(i), path.segment(i)) else {
+            bail!("segment {i} missing");
+        };
+        let seg = Segment::clothoid(s.length() as f32, s.kappa0() as f32, s.sigma() as f32)
+            .map_err(|e| anyhow!("segment {i}: {e}"))?
+            .with_direction(s.direction());
+        parts.push(AnchoredSegment {
+            segment: seg,
+            start: Pose::new(a.x as f32, a.y as f32, a.heading as f32),
+        });
+    }
+    Path::from_anchored(&parts, Continuity::DEFAULT, false)
+        .map_err(|e| anyhow!("reload in f32: {e}"))
+}
+
+/// Runs `build-path` with the arguments after the verb.
+pub fn run(args: &[String]) -> Result<()> {
+    let o = parse_args(args)?;
+    let b = build(&o)?;
+    reload_f32(&b.path)?;
+    let pts: Vec<(f64, f64)> = b.waypoints.points.iter().map(|p| (p.0, p.1)).collect();
+    let method = match o.mode {
+        Mode::Corners => format!(
+            "corners, radius {} m, sharpness {}",
+            o.radius,
+            b.limits
+                .max_sharpness
+                .map_or("unlimited (plain arcs)".to_string(), |s| format!(
+                    "{s} 1/m^2"
+                ))
+        ),
+        Mode::Spline => "G1 clothoid spline".to_string(),
+    };
+    let input_name = o.input.display().to_string();
+    let d = output::Described {
+        path: &b.path,
+        report: &b.report,
+        corners: &b.corners,
+        waypoints: &pts,
+        origin: b.waypoints.origin,
+        input: &input_name,
+        method: &method,
+        name: &o.name,
+    };
+    std::fs::write(&o.out_rs, output::rust_const(&d))
+        .with_context(|| format!("cannot write {}", o.out_rs.display()))?;
+    if let Some(svg) = &o.out_svg {
+        std::fs::write(svg, output::svg(&d))
+            .with_context(|| format!("cannot write {}", svg.display()))?;
+    }
+    println!(
+        "build-path: {} waypoints -> {} segments, {:.3} m ({method})",
+        pts.len(),
+        b.path.len(),
+        b.path.length()
+    );
+    for c in &b.corners {
+        println!(
+            "  corner at {}: deflection {:.1} deg, deviation {:.3} m, peak curvature {:.4} 1/m",
+            b.waypoints
+                .sources
+                .get(c.vertex)
+                .map_or("?", String::as_str),
+            c.deflection.to_degrees(),
+            c.deviation,
+            c.peak_curvature
+        );
+    }
+    if b.report.is_feasible() {
+        println!(
+            "  feasible: peak curvature {:.4} 1/m, peak sharpness {:.4} 1/m^2",
+            b.report.peak_curvature, b.report.peak_sharpness
+        );
+    } else {
+        println!("  {} limit violation(s):", b.report.total);
+        for v in b.report.violations.iter() {
+            println!(
+                "    {:?} at station {:.3} m: {:.6} > {:.6}",
+                v.kind, v.station, v.value, v.limit
+            );
+        }
+    }
+    println!(
+        "  wrote {}{}",
+        o.out_rs.display(),
+        o.out_svg
+            .as_ref()
+            .map_or(String::new(), |p| format!(", {}", p.display()))
+    );
+    println!("  (no binary path format exists yet: the const file is the firmware hand-over)");
+    if o.strict && !b.report.is_feasible() {
+        bail!("{} limit violation(s) (--strict)", b.report.total);
+    }
+    Ok(())
+}
