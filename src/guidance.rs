@@ -45,6 +45,26 @@
 //! circle. The law's travel-frame curvature times the driving sign is the
 //! rear-axle curvature command.
 //!
+//! # Cost
+//!
+//! Per cycle: one tracker update (its bounded window), at most
+//! `2 * PROJECTION_STEPS + 2` path evaluations for the control point, the
+//! reference point and the goal, and a speed scan of at most
+//! [`crate::SPEED_SCAN_SEGMENTS`] segments (arithmetic only), whatever the
+//! path's length. Acquisition and each change of leg walk the path's
+//! segments once (bounded by `N`).
+//!
+//! # Limitations
+//!
+//! * Call [`Guidance::reset`] when the path changes: the current leg and
+//!   station belong to the path of the previous calls.
+//! * Acquisition takes the leg the tracker finds (nearest, weighted by
+//!   heading). Where two legs overlap with the same body heading (a reverse
+//!   leg driven back over a forward one), start near the intended leg's
+//!   start or re-acquire there.
+//! * The kinematic model has no tyre slip, steering lag or dead time; tune
+//!   the gains for the machine (the HIL harness models those).
+//!
 //! Caution: this is not a certified safety function. Keep an independent
 //! emergency stop; the standards that apply to the machine (e.g. ISO 25119,
 //! ISO 18497, ISO 3691-4, ISO 26262, IEC 61508) decide what else it needs.

@@ -3,7 +3,7 @@
 //! law's reference point (hand-computed geometry).
 //!
 //! Sources: Coulter, CMU-RI-TR-92-01 (1992), gamma = 2x/l^2; kinematic
-//! bicycle delta = atan(L kappa) (Rajamani 2012, sec. 2.2); Hoffmann,
+//! bicycle delta = atan(L kappa) (Rajamani 2012, sec. 2.2, from memory); Hoffmann,
 //! Tomlin, Montemerlo, Thrun, ACC 2007, delta = psi + atan(k e / (k_soft + v));
 //! Samson 1995 / De Luca, Oriolo, Samson 1998, chained-form path following
 //! (the curvature formula as written out in src/steer/frenet.rs). The check
@@ -227,4 +227,40 @@ fn guidance_reverse_mirrors_the_laws() {
     // Yaw rate = kappa * v < 0: the travel direction turns clockwise, back
     // towards the path (which lies to the right of the direction of travel).
     assert!(k * -2.0 < 0.0);
+}
+
+#[test]
+fn differential_drive_command() {
+    // Siegwart, Nourbakhsh, Scaramuzza 2011, sec. 3.2 (from memory): wheel speeds
+    // v (1 -+ kappa b / 2); yaw rate kappa v. Pure pursuit goal as in
+    // guidance_pure_pursuit_goal, small-robot lookahead 0.4 + 0.8 * 1 = 1.2 m:
+    // goal (11.2, 0), vehicle frame (1.2, -0.2): kappa = -0.4 / 1.48.
+    let v = Vehicle::differential(0.4, 2.0, 100.0).unwrap();
+    let path = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))
+        .unwrap()
+        .push(Segment::line(60.0).unwrap())
+        .unwrap()
+        .build()
+        .unwrap();
+    let mut g = Guidance::new(
+        v,
+        PurePursuit::small_robot(),
+        TrackerConfig::field(),
+        SupervisorConfig::default_for(&v),
+    )
+    .unwrap();
+    let cmd = g.step(
+        &path,
+        &GuidanceInput {
+            fix: Some(fix(10.0, 0.2, 0.0, 1.0)),
+            now: 0.0,
+            dt: 0.05,
+        },
+    );
+    let k = -0.4 / 1.48;
+    assert!((cmd.curvature - k).abs() < 1e-12, "{}", cmd.curvature);
+    assert_eq!(cmd.steer_angle, 0.0);
+    assert!((cmd.yaw_rate - k).abs() < 1e-12);
+    let (l, r) = cmd.wheel_speeds;
+    assert!((l - (1.0 - k * 0.2)).abs() < 1e-12 && (r - (1.0 + k * 0.2)).abs() < 1e-12);
 }
