@@ -64,14 +64,20 @@ mod complex;
 mod cursor;
 mod error;
 pub mod fresnel;
+pub mod guidance;
+mod limits;
 mod path;
 mod pose;
 mod project;
 mod real;
 mod segment;
+mod speed;
+pub mod steer;
+pub mod supervisor;
 mod tracker;
 #[cfg_attr(feature = "fast-math", allow(dead_code))]
 mod trig;
+mod vehicle;
 
 pub use cursor::{Cursor, Travel};
 pub use error::{PathError, TrackError};
@@ -107,3 +113,11 @@ pub use lever_arm::{control_point, ControlPoint, LeverArm, LeverArmError};
 pub use passes::{
     offset_curvature, reversed_path, Pass, PassError, PassPoint, PassTracking, Passes, Side,
 };
+
+// Steering (issue 3).
+pub use guidance::{Command, Fix, Guidance, GuidanceInput, GuidanceStatus, PROJECTION_STEPS};
+pub use limits::{Limited, SteerLimiter};
+pub use speed::{local_speed_limit, speed_cap, SPEED_SCAN_SEGMENTS};
+pub use steer::{FrenetFeedback, PurePursuit, Stanley, SteerError, SteeringInput, SteeringLaw};
+pub use supervisor::SupervisorConfig;
+pub use vehicle::{Chassis, Vehicle};

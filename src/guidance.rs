@@ -1,0 +1,757 @@
+//! The per-cycle guidance call: fix in, limited steering command out.
+//!
+//! [`Guidance::step`] runs, in a bounded amount of work whatever the input:
+//!
+//! 1. the supervisor's fix checks (finite, fresh, monotonic, no jump) and
+//!    latency compensation (the fix is dead-reckoned to `now`);
+//! 2. the [`Tracker`] update of the control point (lookahead set from the
+//!    law's speed schedule);
+//! 3. the projection of the control point, the law's reference point and
+//!    its lookahead goal onto the current **leg** (a run of segments with
+//!    one driving direction; legs meet at cusps), in the travel frame;
+//! 4. the steering law, then the vehicle limits ([`SteerLimiter`]) and the
+//!    speed cap ([`speed_cap`]);
+//! 5. the supervisor's state machine (see [`crate::supervisor`]) choosing
+//!    between that command, hold, straighten and stop.
+//!
+//! # Driving direction and cusps
+//!
+//! The command's `tracking.foot.direction` is the direction to drive in. On
+//! approaching a cusp (the end of a leg followed by one of the other
+//! direction) the speed cap brings the vehicle to a stop at the cusp; once
+//! it is within `cusp_tolerance` of the cusp and slower than
+//! `stopped_speed`, the next leg becomes current. Projections never leave
+//! the current leg, so the nearly coincident stretches either side of a
+//! cusp cannot be confused.
+//!
+//! # Mapping the control point to the law
+//!
+//! The fix is the control point `a` metres ahead of the rear axle. In the
+//! travel frame (headings turned by pi when reversing) it sits
+//! `u = sign * a` ahead of the rear axle, and a law's reference point `b`
+//! (0 for the rear axle, `L` for Stanley's steered axle) sits `b - u` ahead
+//! of the control point along the travel heading. That point is projected
+//! onto the leg (Newton on the foot-point condition, warm-started from the
+//! control point's station, at most [`PROJECTION_STEPS`] evaluations) for
+//! the law's cross-track, heading error, curvature and sharpness. The goal
+//! (pure pursuit) is the leg point `max(l - u, 0)` beyond the control
+//! point's station (continued along the tangent past a leg end), given
+//! relative to the rear axle. On an arc a control point off the rear axle
+//! is on the path only when the rear axle runs on the concentric circle of
+//! radius `sqrt(R^2 - u^2)`, about `u^2 kappa / 2` inside; the goal is
+//! shifted onto that circle (so pure pursuit's circle through the rear axle
+//! and the goal is that circle), the Frenet law subtracts the same offset
+//! from its cross-track, and Stanley steers its axle onto the matching
+//! circle. The law's travel-frame curvature times the driving sign is the
+//! rear-axle curvature command.
+//!
+//! # Cost
+//!
+//! Per cycle: one tracker update (its bounded window), at most
+//! `2 * PROJECTION_STEPS + 2` path evaluations for the control point, the
+//! reference point and the goal, and a speed scan of at most
+//! [`crate::SPEED_SCAN_SEGMENTS`] segments (arithmetic only), whatever the
+//! path's length. Acquisition and each change of leg walk the path's
+//! segments once (bounded by `N`).
+//!
+//! # Limitations
+//!
+//! * Call [`Guidance::reset`] when the path changes: the current leg and
+//!   station belong to the path of the previous calls.
+//! * Acquisition takes the leg the tracker finds (nearest, weighted by
+//!   heading). Where two legs overlap with the same body heading (a reverse
+//!   leg driven back over a forward one), start near the intended leg's
+//!   start or re-acquire there.
+//! * The kinematic model has no tyre slip, steering lag or dead time; tune
+//!   the gains for the machine (the HIL harness models those).
+//!
+//! Caution: this is not a certified safety function. Keep an independent
+//! emergency stop; the standards that apply to the machine (e.g. ISO 25119,
+//! ISO 18497, ISO 3691-4, ISO 26262, IEC 61508) decide what else it needs.
+
+use crate::limits::{Limited, SteerLimiter};
+use crate::path::Path;
+use crate::pose::{Direction, PathPoint, Pose};
+use crate::real::{c, Real};
+use crate::speed::speed_cap;
+use crate::steer::{SteerError, SteeringInput, SteeringLaw};
+use crate::supervisor::{FixMonitor, Mode, SupervisorConfig, Verdict};
+use crate::tracker::{TrackStatus, Tracker, TrackerConfig, Tracking};
+use crate::vehicle::Vehicle;
+
+/// Most path evaluations of one projection onto a leg.
+pub const PROJECTION_STEPS: usize = 4;
+
+/// Largest Newton step of a projection, metres.
+const MAX_NEWTON_STEP: f64 = 5.0;
+
+/// A position fix of the control point.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Fix<T> {
+    /// Control point, metres (lever-arm correction already applied).
+    pub x: T,
+    /// Control point, metres.
+    pub y: T,
+    /// Body heading, rad, counter-clockwise from `+x`.
+    pub heading: T,
+    /// Speed along the body axis, m/s, negative when reversing.
+    pub speed: T,
+    /// Time of the measurement, s (monotonic, same clock as `now`).
+    pub time: T,
+}
+
+/// One control cycle's input.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct GuidanceInput<T> {
+    /// The latest fix, if any arrived (repeating the last one is fine while
+    /// it is younger than `max_fix_age`).
+    pub fix: Option<Fix<T>>,
+    /// Time now, s.
+    pub now: T,
+    /// Control period, s (> 0).
+    pub dt: T,
+}
+
+/// What the guidance is doing, for the firmware to show and act on.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
+pub enum GuidanceStatus {
+    /// Looking for the path; straightening and requesting a stop.
+    Acquiring,
+    /// Steering along the path.
+    Following,
+    /// Holding the last command for a short time (missing, stale, non-finite or jumped fix).
+    Degraded,
+    /// Off the path or without fixes for too long; straightening and requesting a stop.
+    Lost,
+    /// At the end of an open path; holding the steering and requesting a stop.
+    EndOfPath,
+    /// Invalid `now`/`dt`; holding the steering and requesting a stop.
+    Fault,
+}
+
+/// One cycle's command. Every field is finite.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Command<T> {
+    /// Rear-axle curvature after limits, 1/m, positive left.
+    pub curvature: T,
+    /// Front-wheel angle, rad, positive left (0 for differential drive).
+    pub steer_angle: T,
+    /// Yaw rate, rad/s: `curvature * speed` with the last measured speed.
+    pub yaw_rate: T,
+    /// Wheel speeds `(left, right)`, m/s: differential drive at the last
+    /// measured speed clipped to `speed_limit`; `(v, v)` otherwise.
+    pub wheel_speeds: (T, T),
+    /// Speed limit, m/s (>= 0), from the curvature ahead and the limits; 0 requests a stop.
+    pub speed_limit: T,
+    /// The supervisor's status.
+    pub status: GuidanceStatus,
+    /// The control point's tracking state on the current leg, when known.
+    /// `foot.direction` is the direction to drive in.
+    pub tracking: Option<Tracking<T>>,
+}
+
+impl<T: Real> Command<T> {
+    fn is_finite(&self) -> bool {
+        let t_ok = self.tracking.is_none_or(|t| {
+            t.station.is_finite()
+                && t.cross_track.is_finite()
+                && t.heading_error.is_finite()
+                && t.curvature.is_finite()
+        });
+        self.curvature.is_finite()
+            && self.steer_angle.is_finite()
+            && self.yaw_rate.is_finite()
+            && self.wheel_speeds.0.is_finite()
+            && self.wheel_speeds.1.is_finite()
+            && self.speed_limit.is_finite()
+            && t_ok
+    }
+}
+
+/// A run of consecutive segments with one driving direction.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Leg<T> {
+    first: usize,
+    last: usize,
+    start: T,
+    end: T,
+    direction: Direction,
+    /// `false` for a closed path driven in one direction (stations wrap).
+    bounded: bool,
+    /// The segment after the leg's end (wrapping on a closed path).
+    next: Option<usize>,
+    /// `true` if the vehicle must stop at the leg's end: the end of an open
+    /// path or a cusp (the next leg has the other direction).
+    stop_at_end: bool,
+}
+
+/// A point projected onto a leg.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct OnLeg<T> {
+    station: T,
+    point: PathPoint<T>,
+    cross_track: T,
+    heading_error: T,
+}
+
+fn leg_of<T: Real, const N: usize>(path: &Path<T, N>, index: usize) -> Leg<T> {
+    let n = path.len();
+    let i = index.min(n.saturating_sub(1));
+    let dir = |k: usize| path.segment(k).map(|s| s.direction());
+    let here = dir(i).unwrap_or_default();
+    let mut first = i;
+    for _ in 0..N {
+        if first == 0 || dir(first - 1) != Some(here) {
+            break;
+        }
+        first -= 1;
+    }
+    let mut last = i;
+    for _ in 0..N {
+        if last + 1 >= n || dir(last + 1) != Some(here) {
+            break;
+        }
+        last += 1;
+    }
+    let bounded = !(path.is_closed() && first == 0 && last + 1 == n);
+    let start = path.segment_start(first).unwrap_or(T::ZERO);
+    let end = path
+        .segment_start(last + 1)
+        .unwrap_or_else(|| path.length());
+    let next = if last + 1 < n {
+        Some(last + 1)
+    } else if path.is_closed() {
+        Some(0)
+    } else {
+        None
+    };
+    let stop_at_end = bounded && next.is_none_or(|k| dir(k) != Some(here));
+    Leg {
+        first,
+        last,
+        start,
+        end,
+        direction: here,
+        bounded,
+        next,
+        stop_at_end,
+    }
+}
+
+fn clamp_on<T: Real>(leg: &Leg<T>, s: T) -> T {
+    if leg.bounded {
+        s.clamp_to(leg.start, leg.end)
+    } else {
+        s
+    }
+}
+
+/// The path point at station `s`, restricted to the leg's segments.
+fn eval_on_leg<T: Real, const N: usize>(path: &Path<T, N>, leg: &Leg<T>, s: T) -> PathPoint<T> {
+    if !leg.bounded {
+        return path.at(s);
+    }
+    let sc = s.clamp_to(leg.start, leg.end);
+    let i = path.find_segment(sc).clamp(leg.first, leg.last);
+    let u = sc - path.segment_start(i).unwrap_or(T::ZERO);
+    path.eval_in(i, u.clamp_to(T::ZERO, path.segment_length(i)))
+}
+
+/// The leg point at station `s`, continued along the tangent past its
+/// ends, shifted `left` metres along the path's left normal there.
+fn extended_point<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    leg: &Leg<T>,
+    s: T,
+    left: T,
+) -> (T, T) {
+    let p = eval_on_leg(path, leg, s);
+    let beyond = if leg.bounded {
+        s - clamp_on(leg, s)
+    } else {
+        T::ZERO
+    };
+    // Past the end the curvature is taken as zero (the tangent line).
+    let shift = if beyond == T::ZERO { left } else { T::ZERO };
+    (
+        p.x + beyond * p.cos - shift * p.sin,
+        p.y + beyond * p.sin + shift * p.cos,
+    )
+}
+
+/// Where the rear axle runs, left of the path (m), when a control point `a`
+/// metres ahead of it is on an arc of curvature `kappa`: the concentric
+/// circle of radius `sqrt(R^2 - a^2)`, i.e.
+/// `kappa a^2 / (1 + sqrt(1 - kappa^2 a^2))` (plain geometry).
+pub(crate) fn rear_axle_offset<T: Real>(kappa: T, a: T) -> T {
+    let inside = (T::ONE - kappa * kappa * a * a).max(T::ZERO);
+    kappa * a * a / (T::ONE + inside.sqrt())
+}
+
+/// Projects `(qx, qy)` with travel heading `(sin, cos)` onto the leg,
+/// starting from station `guess`.
+fn project<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    leg: &Leg<T>,
+    guess: T,
+    q: (T, T),
+    travel: (T, T),
+) -> OnLeg<T> {
+    let (qx, qy) = q;
+    let mut s = clamp_on(leg, guess);
+    let mut p = eval_on_leg(path, leg, s);
+    for _ in 0..PROJECTION_STEPS {
+        let along = p.along_offset(qx, qy);
+        let lat = p.lateral_offset(qx, qy);
+        let scale = (T::ONE - p.curvature * lat).max(c(0.2));
+        let step = (along / scale).clamp_to(-c::<T>(MAX_NEWTON_STEP), c(MAX_NEWTON_STEP));
+        let next = clamp_on(leg, s + step);
+        let tiny = T::EPSILON * c(16.0) * (T::ONE + s.abs());
+        let moved = (next - s).abs() > tiny;
+        if !moved {
+            break;
+        }
+        s = next;
+        p = eval_on_leg(path, leg, s);
+    }
+    let along = p.along_offset(qx, qy);
+    let at_end =
+        leg.bounded && ((s >= leg.end && along > T::ZERO) || (s <= leg.start && along < T::ZERO));
+    let station = if at_end { s + along } else { p.station };
+    let (ts, tc) = travel;
+    let cross = p.cos * ts - p.sin * tc;
+    let dot = p.cos * tc + p.sin * ts;
+    OnLeg {
+        station,
+        point: p,
+        cross_track: p.lateral_offset(qx, qy),
+        heading_error: cross.atan2(dot),
+    }
+}
+
+/// The guidance: tracker, steering law, limiter and supervisor.
+///
+/// ```
+/// use kappaline::{
+///     Fix, Guidance, GuidanceInput, GuidanceStatus, PathBuilder, Pose, PurePursuit,
+///     Segment, SupervisorConfig, TrackerConfig, Vehicle,
+/// };
+/// # fn main() -> Result<(), Box<dyn core::error::Error>> {
+/// let path = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))?
+///     .push(Segment::line(100.0)?)?
+///     .build()?;
+/// let vehicle = Vehicle::front_steered(2.5, 0.6, 0.7)?;
+/// let mut g = Guidance::new(
+///     vehicle,
+///     PurePursuit::tractor(),
+///     TrackerConfig::field(),
+///     SupervisorConfig::default_for(&vehicle),
+/// )?;
+/// let fix = Fix { x: 10.0, y: 0.5, heading: 0.0, speed: 2.0, time: 0.0 };
+/// let cmd = g.step(&path, &GuidanceInput { fix: Some(fix), now: 0.0, dt: 0.05 });
+/// assert_eq!(cmd.status, GuidanceStatus::Following);
+/// assert!(cmd.curvature < 0.0); // left of the path: steer right
+/// assert!(cmd.speed_limit > 0.0);
+/// # Ok(()) }
+/// ```
+#[derive(Debug, Clone)]
+pub struct Guidance<T: Real, L> {
+    vehicle: Vehicle<T>,
+    law: L,
+    tracker: Tracker<T>,
+    config: SupervisorConfig<T>,
+    limiter: SteerLimiter<T>,
+    monitor: FixMonitor<T>,
+    mode: Mode<T>,
+    leg: Option<Leg<T>>,
+    station: T,
+    speed: T,
+    speed_limit: T,
+    saturated: bool,
+    last_now: Option<T>,
+}
+
+/// Where the control point is, found during one cycle.
+struct Situation<T> {
+    leg: Leg<T>,
+    cp: OnLeg<T>,
+    tracking: Tracking<T>,
+}
+
+impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
+    /// Guidance for `vehicle` with steering law `law`.
+    ///
+    /// # Errors
+    /// [`SteerError::Tracker`] for a bad tracker configuration;
+    /// [`SteerError::NonFinite`] or [`SteerError::OutOfRange`] for a bad
+    /// supervisor configuration.
+    pub fn new(
+        vehicle: Vehicle<T>,
+        law: L,
+        tracker: TrackerConfig<T>,
+        supervisor: SupervisorConfig<T>,
+    ) -> Result<Self, SteerError> {
+        supervisor.check()?;
+        Ok(Self {
+            vehicle,
+            law,
+            tracker: Tracker::new(tracker)?,
+            config: supervisor,
+            limiter: SteerLimiter::new(),
+            monitor: FixMonitor::new(),
+            mode: Mode::Acquiring,
+            leg: None,
+            station: T::ZERO,
+            speed: T::ZERO,
+            speed_limit: T::ZERO,
+            saturated: false,
+            last_now: None,
+        })
+    }
+
+    /// Back to `Acquiring`: forgets the station, the leg, the fix history
+    /// and the law's integrators. The steering limiter keeps its last
+    /// output (the wheels do not jump). Call it when the path changes.
+    pub fn reset(&mut self) {
+        self.tracker.reset();
+        self.law.reset();
+        self.monitor = FixMonitor::new();
+        self.mode = Mode::Acquiring;
+        self.leg = None;
+        self.speed_limit = T::ZERO;
+        self.saturated = false;
+        self.last_now = None;
+    }
+
+    /// Tells the limiter the measured curvature (1/m), e.g. from a
+    /// steering-angle sensor at start-up; by default it assumes straight.
+    pub fn seed_curvature(&mut self, kappa: T) {
+        self.limiter.seed(&self.vehicle, kappa);
+    }
+
+    /// The current status (that of the last command, except `Fault`).
+    pub fn status(&self) -> GuidanceStatus {
+        self.mode.status()
+    }
+
+    /// The vehicle.
+    pub fn vehicle(&self) -> &Vehicle<T> {
+        &self.vehicle
+    }
+
+    /// The steering law.
+    pub fn law(&self) -> &L {
+        &self.law
+    }
+
+    /// The tracker (for its cursor and configuration).
+    pub fn tracker(&self) -> &Tracker<T> {
+        &self.tracker
+    }
+
+    /// One control cycle: never NaN, bounded work (see the module docs).
+    pub fn step<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        input: &GuidanceInput<T>,
+    ) -> Command<T> {
+        let cmd = self.cycle(path, input);
+        if cmd.is_finite() {
+            cmd
+        } else {
+            self.fault()
+        }
+    }
+
+    fn cycle<const N: usize>(&mut self, path: &Path<T, N>, input: &GuidanceInput<T>) -> Command<T> {
+        let (now, dt) = (input.now, input.dt);
+        let time_ok = now.is_finite() && dt.is_finite() && dt > T::ZERO;
+        if !time_ok || self.last_now.is_some_and(|t| now < t) {
+            return self.fault();
+        }
+        self.last_now = Some(now);
+        let verdict = self.monitor.check(input.fix.as_ref(), now, &self.config);
+        match (self.mode, verdict) {
+            (Mode::EndOfPath, _) => self.hold(GuidanceStatus::EndOfPath, true),
+            (Mode::Acquiring, Verdict::Usable(f) | Verdict::Jumped(f)) => {
+                self.acquire(path, f, dt, Mode::Acquiring)
+            }
+            (Mode::Acquiring, Verdict::Unusable) => self.straighten(GuidanceStatus::Acquiring, dt),
+            (Mode::Following | Mode::Degraded(_), Verdict::Usable(f)) => {
+                self.mode = Mode::Following;
+                self.follow(path, f, dt)
+            }
+            (Mode::Following, _) => {
+                self.mode = Mode::Degraded(now);
+                self.hold(GuidanceStatus::Degraded, false)
+            }
+            (Mode::Degraded(since), _) => {
+                if now - since > self.config.hold_time {
+                    self.mode = Mode::Lost;
+                    self.straighten(GuidanceStatus::Lost, dt)
+                } else {
+                    self.hold(GuidanceStatus::Degraded, false)
+                }
+            }
+            (Mode::Lost, Verdict::Usable(f) | Verdict::Jumped(f))
+                if self.monitor.agreeing >= self.config.confirm_fixes =>
+            {
+                self.tracker.reset();
+                self.law.reset();
+                self.leg = None;
+                self.acquire(path, f, dt, Mode::Lost)
+            }
+            (Mode::Lost, _) => self.straighten(GuidanceStatus::Lost, dt),
+        }
+    }
+
+    /// Full acquisition; on failure stays in `fail` (straighten, stop).
+    fn acquire<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        f: Fix<T>,
+        dt: T,
+        fail: Mode<T>,
+    ) -> Command<T> {
+        self.tracker.reset();
+        match self.locate(path, &f) {
+            Some(sit) if self.within_limits(&sit.cp) => {
+                self.mode = Mode::Following;
+                self.monitor.forget_accepted();
+                self.monitor.accept(f);
+                self.speed = f.speed;
+                self.drive(path, f, sit, dt)
+            }
+            _ => {
+                self.mode = fail;
+                self.straighten(fail.status(), dt)
+            }
+        }
+    }
+
+    /// Steering along the path with a usable fix.
+    fn follow<const N: usize>(&mut self, path: &Path<T, N>, f: Fix<T>, dt: T) -> Command<T> {
+        self.monitor.accept(f);
+        self.speed = f.speed;
+        match self.locate(path, &f) {
+            Some(sit) if self.within_limits(&sit.cp) => self.drive(path, f, sit, dt),
+            _ => {
+                self.mode = Mode::Lost;
+                self.straighten(GuidanceStatus::Lost, dt)
+            }
+        }
+    }
+
+    fn within_limits(&self, cp: &OnLeg<T>) -> bool {
+        cp.cross_track.abs() <= self.config.max_cross_track
+            && cp.heading_error.abs() <= self.config.max_heading_error
+    }
+
+    /// The travel heading's `(sin, cos)` on a leg of direction `dir`.
+    fn travel(heading: T, dir: Direction) -> (T, T) {
+        let (s, co) = heading.sin_cos();
+        match dir {
+            Direction::Forward => (s, co),
+            Direction::Reverse => (-s, -co),
+        }
+    }
+
+    /// Tracker update and projection of the control point onto its leg
+    /// (switching legs at a reached cusp). `None` if the tracker lost the path.
+    fn locate<const N: usize>(&mut self, path: &Path<T, N>, f: &Fix<T>) -> Option<Situation<T>> {
+        let dir = self.leg.map(|l| l.direction).unwrap_or_default();
+        let u_cp = dir.sign::<T>() * self.vehicle.control_point();
+        let reach = (self.law.lookahead(f.speed.abs()) - u_cp).max(T::ZERO);
+        // A lookahead the tracker refuses (not finite) keeps the old one.
+        let _ = self.tracker.set_lookahead(reach);
+        let pose = Pose::new(f.x, f.y, f.heading);
+        let t = self.tracker.update(path, &pose).ok()?;
+        if t.status == TrackStatus::Lost {
+            return None;
+        }
+        let valid = |l: &Leg<T>| l.last < path.len();
+        let mut leg = match self.leg {
+            Some(l) if valid(&l) => l,
+            _ => {
+                let l = leg_of(path, t.foot.segment);
+                self.station = t.station;
+                l
+            }
+        };
+        let on_leg = t.foot.segment >= leg.first && t.foot.segment <= leg.last;
+        let guess = if on_leg { t.station } else { self.station };
+        let mut cp = project(
+            path,
+            &leg,
+            guess,
+            (f.x, f.y),
+            Self::travel(f.heading, leg.direction),
+        );
+        // Leaving the leg at its end: onto the next leg, at once if it has
+        // the same direction (the seam of a loop), after a stop at a cusp.
+        if leg.bounded && cp.station >= leg.end - self.config.cusp_tolerance {
+            if let Some(n) = leg.next {
+                let seamless = !leg.stop_at_end;
+                let stopped = f.speed.abs() <= self.config.stopped_speed;
+                if (seamless && cp.station >= leg.end) || (!seamless && stopped) {
+                    // The only walk over the path's segments outside
+                    // acquisition: once per leg change.
+                    leg = leg_of(path, n);
+                    self.law.reset();
+                    cp = project(
+                        path,
+                        &leg,
+                        leg.start,
+                        (f.x, f.y),
+                        Self::travel(f.heading, leg.direction),
+                    );
+                }
+            }
+        }
+        self.leg = Some(leg);
+        self.station = cp.station;
+        let tracking = Tracking {
+            station: cp.station,
+            cross_track: cp.cross_track,
+            heading_error: cp.heading_error,
+            curvature: cp.point.curvature,
+            curvature_ahead: t.curvature_ahead,
+            distance_to_end: path.length() - cp.station,
+            foot: cp.point,
+            ahead: t.ahead,
+            status: t.status,
+        };
+        Some(Situation { leg, cp, tracking })
+    }
+
+    /// The law's command, limited, with the speed cap; or the end of path.
+    fn drive<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        f: Fix<T>,
+        sit: Situation<T>,
+        dt: T,
+    ) -> Command<T> {
+        let Situation { leg, cp, tracking } = sit;
+        let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
+        if last_leg && cp.station >= leg.end - self.config.end_tolerance {
+            self.mode = Mode::EndOfPath;
+            let mut cmd = self.hold(GuidanceStatus::EndOfPath, true);
+            cmd.tracking = Some(tracking);
+            return cmd;
+        }
+        let sign = leg.direction.sign::<T>();
+        let travel = Self::travel(f.heading, leg.direction);
+        let (ts, tc) = travel;
+        let u_cp = sign * self.vehicle.control_point();
+        let b = self.law.reference_point(self.vehicle.wheelbase());
+        let shift = b - u_cp;
+        let reference = if shift == T::ZERO {
+            cp
+        } else {
+            let q = (f.x + shift * tc, f.y + shift * ts);
+            let (_, cos_e) = cp.heading_error.sin_cos();
+            project(path, &leg, cp.station + shift * cos_e, q, travel)
+        };
+        let speed = f.speed.abs();
+        let look = self.law.lookahead(speed);
+        let goal = if look > T::ZERO {
+            let at = cp.station + (look - u_cp).max(T::ZERO);
+            let kappa_goal = eval_on_leg(path, &leg, at).curvature;
+            let shift = rear_axle_offset(kappa_goal, u_cp);
+            let (gx, gy) = extended_point(path, &leg, at, shift);
+            let rx = f.x - u_cp * tc;
+            let ry = f.y - u_cp * ts;
+            let (dx, dy) = (gx - rx, gy - ry);
+            (dx * tc + dy * ts, dy * tc - dx * ts)
+        } else {
+            (T::ZERO, T::ZERO)
+        };
+        let input = SteeringInput {
+            cross_track: reference.cross_track,
+            heading_error: reference.heading_error,
+            curvature: reference.point.curvature,
+            sharpness: reference.point.sharpness,
+            speed,
+            goal,
+            control_point: u_cp,
+            reference_point: b,
+            dt,
+            saturated: self.saturated,
+        };
+        let kappa = sign * self.law.curvature(&input);
+        let limited = self.limiter.apply(&self.vehicle, kappa, dt);
+        self.saturated = limited.saturated;
+        // Stop at a cusp or the path end; otherwise the cap ahead.
+        let stop = if leg.stop_at_end { Some(leg.end) } else { None };
+        // The command holds for one period: cap where the vehicle will be
+        // at its end.
+        let mut limit = speed_cap(path, &self.vehicle, cp.station + speed * dt, stop);
+        if stop.is_some_and(|e| cp.station >= e - self.config.cusp_tolerance) {
+            limit = T::ZERO;
+        }
+        self.speed_limit = limit;
+        self.command(limited, limit, GuidanceStatus::Following, Some(tracking))
+    }
+
+    fn command(
+        &self,
+        lim: Limited<T>,
+        limit: T,
+        status: GuidanceStatus,
+        tracking: Option<Tracking<T>>,
+    ) -> Command<T> {
+        let v = self.speed.clamp_to(-limit, limit);
+        Command {
+            curvature: lim.curvature,
+            steer_angle: lim.steer_angle,
+            yaw_rate: lim.curvature * self.speed,
+            wheel_speeds: self.vehicle.wheel_speeds(lim.curvature, v),
+            speed_limit: limit,
+            status,
+            tracking,
+        }
+    }
+
+    /// Holds the last curvature; `stop` requests a stop, else keeps the last limit.
+    fn hold(&mut self, status: GuidanceStatus, stop: bool) -> Command<T> {
+        if stop {
+            self.speed_limit = T::ZERO;
+        }
+        self.command(self.limiter.hold(), self.speed_limit, status, None)
+    }
+
+    /// Ramps the curvature to zero and requests a stop.
+    fn straighten(&mut self, status: GuidanceStatus, dt: T) -> Command<T> {
+        self.speed_limit = T::ZERO;
+        let lim = self.limiter.apply(&self.vehicle, T::ZERO, dt);
+        self.saturated = false;
+        self.command(lim, T::ZERO, status, None)
+    }
+
+    /// Invalid time input, or (never expected) a non-finite result.
+    fn fault(&mut self) -> Command<T> {
+        self.speed_limit = T::ZERO;
+        let lim = self.limiter.hold();
+        let finite = lim.curvature.is_finite() && lim.steer_angle.is_finite();
+        let (k, d) = if finite {
+            (lim.curvature, lim.steer_angle)
+        } else {
+            (T::ZERO, T::ZERO)
+        };
+        Command {
+            curvature: k,
+            steer_angle: d,
+            yaw_rate: T::ZERO,
+            wheel_speeds: (T::ZERO, T::ZERO),
+            speed_limit: T::ZERO,
+            status: GuidanceStatus::Fault,
+            tracking: None,
+        }
+    }
+}

@@ -1,0 +1,204 @@
+//! A speed cap along the path, looked ahead far enough to brake.
+//!
+//! Three limits at each point of the path ahead, all kinematic:
+//!
+//! * lateral acceleration: `v^2 |kappa| <= a_lat`, so `v <= sqrt(a_lat / |kappa|)`;
+//! * steering rate on a clothoid: a front-steered vehicle at speed `v` on
+//!   sharpness `sigma` needs `d delta / dt = v L sigma / (1 + (L kappa)^2)`
+//!   (from `delta = atan(L kappa)`), so
+//!   `v <= max_steer_rate (1 + (L kappa)^2) / (L |sigma|)`; a
+//!   differential-drive robot needs `d kappa / dt = v sigma`, so
+//!   `v <= max_curvature_rate / |sigma|`;
+//! * the vehicle's own speed limit, and a stop at `stop_at` (a cusp or the
+//!   end of an open path).
+//!
+//! A limit `v_i` at distance `x_i` ahead allows `v^2 <= v_i^2 + 2 a_dec x_i`
+//! now (constant deceleration `a_dec`). The scan looks at each segment that
+//! starts within the braking distance `v_max^2 / (2 a_dec)` plus a margin:
+//! curvature is linear along a segment, so its extreme values over the part
+//! in view are at the ends of that part, and the limit is applied at the
+//! nearest point of that part (conservative, exact for the sharpest point).
+//! At most [`SPEED_SCAN_SEGMENTS`] segments are scanned; if they do not
+//! cover the braking distance, the cap plans a stop at the end of what was
+//! scanned (safe, slower on paths of very many short segments).
+//!
+//! Curvature steps at joints of segments that are only G1 continuous have
+//! infinite sharpness: no speed follows them exactly, so they are left to
+//! the steering-rate limiter and are not capped here.
+
+use crate::path::Path;
+use crate::real::{c, Real};
+use crate::vehicle::{Chassis, Vehicle};
+
+/// Most segments the speed scan looks at per call.
+pub const SPEED_SCAN_SEGMENTS: usize = 24;
+
+/// Extra distance beyond the braking distance the scan covers, metres.
+const SCAN_MARGIN: f64 = 2.0;
+
+/// The speed limit at one point from curvature `kappa` (1/m, the largest
+/// magnitude over the stretch), `kappa_min` (1/m, the smallest magnitude
+/// over it) and sharpness `sigma` (1/m^2), m/s.
+pub fn local_speed_limit<T: Real>(vehicle: &Vehicle<T>, kappa: T, kappa_min: T, sigma: T) -> T {
+    let mut v = vehicle.max_speed();
+    let k = kappa.abs();
+    if k > T::ZERO {
+        v = v.min((vehicle.max_lateral_acceleration() / k).sqrt());
+    }
+    let s = sigma.abs();
+    if s > T::ZERO {
+        let rate_cap = match vehicle.chassis() {
+            Chassis::FrontSteered { wheelbase } => {
+                let lk = wheelbase * kappa_min;
+                vehicle.max_steer_rate() * (T::ONE + lk * lk) / (wheelbase * s)
+            }
+            Chassis::DifferentialDrive { .. } => vehicle.max_curvature_rate() / s,
+        };
+        v = v.min(rate_cap);
+    }
+    v
+}
+
+/// The speed cap at `station` (m) on `path`, m/s: the largest speed from
+/// which the vehicle can meet every limit ahead (see the module docs),
+/// stopping at `stop_at` (a station, m) if given. Always finite and `>= 0`.
+///
+/// ```
+/// use kappaline::{speed_cap, PathBuilder, Pose, Segment, Vehicle};
+/// # fn main() -> Result<(), Box<dyn core::error::Error>> {
+/// let path = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))?
+///     .push(Segment::line(20.0)?)?
+///     .push(Segment::arc(30.0, 0.25)?)? // 4 m radius
+///     .build()?;
+/// let v = Vehicle::front_steered(2.5, 0.7, 0.6)?
+///     .with_max_lateral_acceleration(1.0)?
+///     .with_max_deceleration(0.5)?;
+/// // On the arc: sqrt(1.0 / 0.25) = 2 m/s.
+/// assert!((speed_cap(&path, &v, 30.0, None) - 2.0).abs() < 1e-12);
+/// // 4 m before it: sqrt(2^2 + 2 * 0.5 * 4) = 2.83 m/s.
+/// assert!((speed_cap(&path, &v, 16.0, None) - 8f64.sqrt()).abs() < 1e-12);
+/// # Ok(()) }
+/// ```
+pub fn speed_cap<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    vehicle: &Vehicle<T>,
+    station: T,
+    stop_at: Option<T>,
+) -> T {
+    if !station.is_finite() {
+        return T::ZERO;
+    }
+    let a = vehicle.max_deceleration();
+    let vmax = vehicle.max_speed();
+    let horizon = vmax * vmax / (T::TWO * a) + c(SCAN_MARGIN);
+    let mut v2 = vmax * vmax;
+    if let Some(stop) = stop_at {
+        if stop.is_finite() {
+            v2 = v2.min(T::TWO * a * (stop - station).max(T::ZERO));
+        }
+    }
+    let s0 = path.normalize_station(station);
+    let mut seg = path.find_segment(s0);
+    let mut offset = s0 - path.placed_at(seg).station;
+    let mut ahead = T::ZERO; // distance from `station` to the start of the part in view
+    let mut covered = false;
+    for _ in 0..SPEED_SCAN_SEGMENTS {
+        let Some(shape) = path.segment(seg) else {
+            covered = true;
+            break;
+        };
+        let len = path.segment_length(seg);
+        let u0 = offset.clamp_to(T::ZERO, len);
+        let u1 = (u0 + (horizon - ahead)).min(len);
+        let k0 = shape.kappa0() + shape.sigma() * u0;
+        let k1 = shape.kappa0() + shape.sigma() * u1;
+        let k_max = k0.abs().max(k1.abs());
+        let k_min = if (k0 > T::ZERO) != (k1 > T::ZERO) && k0 != T::ZERO && k1 != T::ZERO {
+            T::ZERO
+        } else {
+            k0.abs().min(k1.abs())
+        };
+        let vl = local_speed_limit(vehicle, k_max, k_min, shape.sigma());
+        v2 = v2.min(vl * vl + T::TWO * a * ahead);
+        ahead += len - u0;
+        if ahead >= horizon {
+            covered = true;
+            break;
+        }
+        offset = T::ZERO;
+        seg = if seg + 1 < path.len() {
+            seg + 1
+        } else if path.is_closed() {
+            0
+        } else {
+            covered = true;
+            break;
+        };
+    }
+    if !covered {
+        v2 = v2.min(T::TWO * a * ahead);
+    }
+    let v = v2.max(T::ZERO).sqrt();
+    if v.is_finite() {
+        v
+    } else {
+        T::ZERO
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::{PathBuilder, Pose, Segment};
+
+    #[test]
+    fn steering_rate_cap_on_clothoid() {
+        // d delta/ds = L sigma / (1 + (L kappa)^2): at kappa = 0, L = 2.5 m,
+        // sigma = 0.01 /m^2, max rate 0.2 rad/s -> v <= 0.2 / 0.025 = 8 m/s;
+        // with max rate 0.05 rad/s -> 2 m/s.
+        let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.05)
+            .unwrap()
+            .with_max_speed(5.0)
+            .unwrap()
+            .with_max_lateral_acceleration(10.0)
+            .unwrap();
+        assert!((local_speed_limit(&v, 0.0, 0.0, 0.01) - 2.0).abs() < 1e-12);
+        let path = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::transition(10.0, 0.0, 0.1).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let cap = speed_cap(&path, &v, 0.0, None);
+        // The cap at the start of the clothoid uses kappa_min = 0.
+        assert!((cap - 2.0).abs() < 1e-12, "{cap}");
+    }
+
+    #[test]
+    fn differential_rate_and_lateral_caps() {
+        // d kappa / dt = v sigma <= 2 1/m/s with sigma = 4 /m^2 -> 0.5 m/s;
+        // a_lat = 1 m/s^2 on kappa = 0.25 1/m -> 2 m/s (capped at 1.5).
+        let v = Vehicle::<f64>::differential(0.4, 2.0, 2.0).unwrap();
+        assert!((local_speed_limit(&v, 0.0, 0.0, 4.0) - 0.5).abs() < 1e-12);
+        assert!((local_speed_limit(&v, 0.25, 0.25, 0.0) - 1.5).abs() < 1e-12);
+        let v = v.with_max_speed(3.0).unwrap();
+        assert!((local_speed_limit(&v, 0.25, 0.25, 0.0) - 2.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn stop_and_bounded_scan() {
+        let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
+        let path = PathBuilder::<f64, 64>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
+        let mut b = path;
+        for _ in 0..60 {
+            b.try_push(Segment::line(0.1).unwrap()).unwrap();
+        }
+        let path = b.build().unwrap();
+        // 24 segments of 0.1 m cover 2.4 m < braking distance 8 m + margin:
+        // plan a stop at 2.4 m: sqrt(2 * 1 * 2.4).
+        let cap = speed_cap(&path, &v, 0.0, None);
+        assert!((cap - libm::sqrt(4.8)).abs() < 1e-9, "{cap}");
+        assert_eq!(speed_cap(&path, &v, 1.0, Some(1.0)), 0.0);
+        assert_eq!(speed_cap(&path, &v, f64::NAN, None), 0.0);
+    }
+}

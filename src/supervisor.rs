@@ -1,0 +1,329 @@
+//! The guidance supervisor: decides, each cycle, whether the steering law
+//! may steer, and what to command when it may not.
+//!
+//! # States and commands
+//!
+//! | state ([`GuidanceStatus`]) | entered when | command |
+//! |---|---|---|
+//! | `Acquiring` | start, [`crate::Guidance::reset`] | straighten, stop request |
+//! | `Following` | the path is acquired and every check passes | steering law, speed cap |
+//! | `Degraded` | the fix is missing, stale, non-finite or jumped | hold the last curvature and speed limit |
+//! | `Lost` | `Degraded` for longer than `hold_time`; cross-track or heading error beyond its limit; the tracker lost the path | straighten, stop request |
+//! | `EndOfPath` | within `end_tolerance` of the end of an open path | hold the last curvature, stop request |
+//! | `Fault` | `now` or `dt` not finite, `dt <= 0`, or time going backwards (this cycle only) | hold the last curvature, stop request |
+//!
+//! "Straighten" ramps the curvature to zero at the steering-rate limit;
+//! "stop request" is `speed_limit = 0`. Every command passes the limiter,
+//! and a last check replaces anything non-finite by the `Fault` command,
+//! so no state outputs NaN.
+//!
+//! # Transitions
+//!
+//! * `Acquiring` -> `Following`: a usable fix, the tracker finds the path
+//!   within `lost_distance`, and the errors are within their limits.
+//! * `Following` -> `Degraded`: no usable fix this cycle. `Degraded` ->
+//!   `Following`: a usable fix consistent with the last accepted one
+//!   (within `max_jump + jump_growth * elapsed` of where dead reckoning puts
+//!   it).
+//! * `Degraded` -> `Lost`: after `hold_time` without a usable fix.
+//! * `Following` -> `Lost`: a limit is exceeded or the tracker reports
+//!   `Lost`.
+//! * `Lost` -> `Following`: re-acquisition. The tracker never re-acquires
+//!   on its own (a position jump may put it near the wrong pass); the
+//!   supervisor resets it and runs a full acquisition once
+//!   `confirm_fixes` consecutive fixes agree with each other (so a single
+//!   outlier cannot pull the tracker onto another pass), and accepts the
+//!   result only within the cross-track and heading limits.
+//! * `Following` -> `EndOfPath`: near the end of an open path; latched
+//!   until [`crate::Guidance::reset`].
+//!
+//! A fix is *usable* if every field is finite, it is not older than
+//! `max_fix_age` at `now`, its time does not go backwards, and it is
+//! consistent with the last accepted fix (no jump).
+//!
+//! Caution: this supervisor is a guidance function, not a certified safety
+//! function; keep an independent emergency stop and the machine's own
+//! safety functions (e.g. ISO 25119, ISO 18497, ISO 3691-4, IEC 61508).
+
+use crate::guidance::{Fix, GuidanceStatus};
+use crate::real::{c, Real};
+use crate::steer::SteerError;
+use crate::vehicle::Vehicle;
+
+/// Supervisor limits. Times in seconds, distances in metres, angles in radians.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct SupervisorConfig<T> {
+    /// A fix older than this at `now` is stale, s (> 0).
+    pub max_fix_age: T,
+    /// How long the last curvature is held without a usable fix, s (>= 0).
+    pub hold_time: T,
+    /// Largest cross-track error steered back from, m (> 0).
+    pub max_cross_track: T,
+    /// Largest heading error steered back from, rad (0 < x <= pi).
+    pub max_heading_error: T,
+    /// Largest disagreement of a fix with dead reckoning from the last
+    /// accepted fix, m (> 0): beyond it the fix has jumped.
+    pub max_jump: T,
+    /// Growth of that tolerance with the time since the last accepted fix,
+    /// m/s (>= 0).
+    pub jump_growth: T,
+    /// Consecutive mutually consistent fixes needed to re-acquire (>= 1).
+    pub confirm_fixes: u32,
+    /// Distance before the end of an open path that counts as arrived, m (>= 0).
+    pub end_tolerance: T,
+    /// Distance before a cusp at which the vehicle is asked to stop, m (>= 0).
+    pub cusp_tolerance: T,
+    /// Speed below which the vehicle counts as stopped at a cusp, m/s (> 0).
+    pub stopped_speed: T,
+}
+
+impl<T: Real> SupervisorConfig<T> {
+    /// Defaults for `vehicle` (common practice, tune for the machine):
+    /// fixes stale after 0.3 s, hold 0.5 s, cross-track limit 1.5 m,
+    /// heading limit 1.0 rad, jump 0.5 m + 0.5 m/s, 5 confirming fixes, end
+    /// and cusp tolerances 0.1 m (0.05 m for vehicles at most 2 m/s),
+    /// stopped below 0.05 m/s.
+    pub fn default_for(vehicle: &Vehicle<T>) -> Self {
+        let small = vehicle.max_speed() <= c(2.0);
+        let tol = if small { c(0.05) } else { c(0.1) };
+        Self {
+            max_fix_age: c(0.3),
+            hold_time: c(0.5),
+            max_cross_track: c(1.5),
+            max_heading_error: c(1.0),
+            max_jump: c(0.5),
+            jump_growth: c(0.5),
+            confirm_fixes: 5,
+            end_tolerance: tol,
+            cusp_tolerance: tol,
+            stopped_speed: c(0.05),
+        }
+    }
+
+    /// Checks every field against its documented range.
+    ///
+    /// # Errors
+    /// [`SteerError::NonFinite`] or [`SteerError::OutOfRange`].
+    pub fn check(&self) -> Result<(), SteerError> {
+        let all = [
+            self.max_fix_age,
+            self.hold_time,
+            self.max_cross_track,
+            self.max_heading_error,
+            self.max_jump,
+            self.jump_growth,
+            self.end_tolerance,
+            self.cusp_tolerance,
+            self.stopped_speed,
+        ];
+        if all.iter().any(|v| !v.is_finite()) {
+            return Err(SteerError::NonFinite);
+        }
+        let ok = self.max_fix_age > T::ZERO
+            && self.hold_time >= T::ZERO
+            && self.max_cross_track > T::ZERO
+            && self.max_heading_error > T::ZERO
+            && self.max_heading_error <= T::PI
+            && self.max_jump > T::ZERO
+            && self.jump_growth >= T::ZERO
+            && self.confirm_fixes >= 1
+            && self.end_tolerance >= T::ZERO
+            && self.cusp_tolerance >= T::ZERO
+            && self.stopped_speed > T::ZERO;
+        if ok {
+            Ok(())
+        } else {
+            Err(SteerError::OutOfRange)
+        }
+    }
+}
+
+/// The supervisor's state (the persistent part of [`GuidanceStatus`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub(crate) enum Mode<T> {
+    Acquiring,
+    Following,
+    /// Holding since the given time, s.
+    Degraded(T),
+    Lost,
+    EndOfPath,
+}
+
+impl<T> Mode<T> {
+    pub(crate) fn status(&self) -> GuidanceStatus {
+        match self {
+            Mode::Acquiring => GuidanceStatus::Acquiring,
+            Mode::Following => GuidanceStatus::Following,
+            Mode::Degraded(_) => GuidanceStatus::Degraded,
+            Mode::Lost => GuidanceStatus::Lost,
+            Mode::EndOfPath => GuidanceStatus::EndOfPath,
+        }
+    }
+}
+
+/// What the fix checks found.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum Verdict<T> {
+    /// Usable: the fix extrapolated to `now` (position, heading, speed).
+    Usable(Fix<T>),
+    /// Finite and fresh but inconsistent with the last accepted fix; carries
+    /// it extrapolated to `now`.
+    Jumped(Fix<T>),
+    /// Missing, stale, non-finite or going back in time.
+    Unusable,
+}
+
+/// The fix checks and their memory.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct FixMonitor<T> {
+    accepted: Option<Fix<T>>,
+    raw: Option<Fix<T>>,
+    /// Consecutive finite, fresh fixes consistent with the one before.
+    pub(crate) agreeing: u32,
+}
+
+fn predicts<T: Real>(from: &Fix<T>, to: &Fix<T>, tol: T) -> bool {
+    let dt = to.time - from.time;
+    let (s, co) = from.heading.sin_cos();
+    let px = from.x + from.speed * dt * co;
+    let py = from.y + from.speed * dt * s;
+    let ex = to.x - px;
+    let ey = to.y - py;
+    ex * ex + ey * ey <= tol * tol
+}
+
+impl<T: Real> FixMonitor<T> {
+    pub(crate) fn new() -> Self {
+        Self {
+            accepted: None,
+            raw: None,
+            agreeing: 0,
+        }
+    }
+
+    /// Forgets the last accepted fix (after re-acquisition accepts a new one).
+    pub(crate) fn forget_accepted(&mut self) {
+        self.accepted = None;
+    }
+
+    /// Marks `fix` as accepted (the guidance steered with it).
+    pub(crate) fn accept(&mut self, fix: Fix<T>) {
+        self.accepted = Some(fix);
+    }
+
+    /// Checks one cycle's fix at time `now` (s).
+    pub(crate) fn check(
+        &mut self,
+        fix: Option<&Fix<T>>,
+        now: T,
+        cfg: &SupervisorConfig<T>,
+    ) -> Verdict<T> {
+        let Some(f) = fix else {
+            return Verdict::Unusable;
+        };
+        let finite = f.x.is_finite()
+            && f.y.is_finite()
+            && f.heading.is_finite()
+            && f.speed.is_finite()
+            && f.time.is_finite();
+        let age = now - f.time;
+        let backwards = self.raw.is_some_and(|r| f.time < r.time);
+        let fresh = age <= cfg.max_fix_age;
+        if !finite || !fresh || backwards {
+            if !finite || backwards {
+                self.agreeing = 0;
+            }
+            return Verdict::Unusable;
+        }
+        // Consistency with the previous raw fix (for re-acquisition).
+        let agrees = self.raw.is_some_and(|r| {
+            let tol = cfg.max_jump + cfg.jump_growth * (f.time - r.time);
+            predicts(&r, f, tol)
+        });
+        self.agreeing = if agrees {
+            self.agreeing.saturating_add(1)
+        } else {
+            1
+        };
+        self.raw = Some(*f);
+        let now_fix = extrapolate(f, now);
+        match self.accepted {
+            Some(a) => {
+                let tol = cfg.max_jump + cfg.jump_growth * (f.time - a.time).max(T::ZERO);
+                if predicts(&a, f, tol) {
+                    Verdict::Usable(now_fix)
+                } else {
+                    Verdict::Jumped(now_fix)
+                }
+            }
+            None => Verdict::Usable(now_fix),
+        }
+    }
+}
+
+/// Dead-reckons a fix forward to `now` along its heading (latency
+/// compensation; the age is at most `max_fix_age`).
+fn extrapolate<T: Real>(f: &Fix<T>, now: T) -> Fix<T> {
+    let age = (now - f.time).max(T::ZERO);
+    let (s, co) = f.heading.sin_cos();
+    Fix {
+        x: f.x + f.speed * age * co,
+        y: f.y + f.speed * age * s,
+        ..*f
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn fix(x: f64, t: f64) -> Fix<f64> {
+        Fix {
+            x,
+            y: 0.0,
+            heading: 0.0,
+            speed: 1.0,
+            time: t,
+        }
+    }
+
+    #[test]
+    fn config_checks() {
+        let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
+        let cfg = SupervisorConfig::default_for(&v);
+        assert!(cfg.check().is_ok());
+        let bad = SupervisorConfig {
+            confirm_fixes: 0,
+            ..cfg
+        };
+        assert_eq!(bad.check(), Err(SteerError::OutOfRange));
+        let bad = SupervisorConfig {
+            hold_time: f64::NAN,
+            ..cfg
+        };
+        assert_eq!(bad.check(), Err(SteerError::NonFinite));
+    }
+
+    #[test]
+    fn monitor_flags_jumps_stale_and_nan() {
+        let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
+        let cfg = SupervisorConfig::default_for(&v);
+        let mut m = FixMonitor::new();
+        let a = fix(0.0, 0.0);
+        assert!(matches!(m.check(Some(&a), 0.0, &cfg), Verdict::Usable(_)));
+        m.accept(a);
+        let b = fix(0.1, 0.1);
+        assert!(matches!(m.check(Some(&b), 0.1, &cfg), Verdict::Usable(_)));
+        let far = fix(5.2, 0.2);
+        assert!(matches!(m.check(Some(&far), 0.2, &cfg), Verdict::Jumped(_)));
+        assert_eq!(m.agreeing, 1);
+        let stale = fix(0.3, 0.3);
+        assert_eq!(m.check(Some(&stale), 1.0, &cfg), Verdict::Unusable);
+        let nan = fix(f64::NAN, 1.0);
+        assert_eq!(m.check(Some(&nan), 1.0, &cfg), Verdict::Unusable);
+        assert_eq!(m.agreeing, 0);
+        assert_eq!(m.check(None, 1.0, &cfg), Verdict::Unusable);
+    }
+}
