@@ -36,8 +36,34 @@
 //! the law's cross-track, heading error, curvature and sharpness. The goal
 //! (pure pursuit) is the leg point `max(l - u, 0)` beyond the control
 //! point's station (continued along the tangent past a leg end), given
-//! relative to the rear axle. The law's travel-frame curvature times the
-//! driving sign is the rear-axle curvature command.
+//! relative to the rear axle. On an arc a control point off the rear axle
+//! is on the path only when the rear axle runs on the concentric circle of
+//! radius `sqrt(R^2 - u^2)`, about `u^2 kappa / 2` inside; the goal is
+//! shifted onto that circle (so pure pursuit's circle through the rear axle
+//! and the goal is that circle), the Frenet law subtracts the same offset
+//! from its cross-track, and Stanley steers its axle onto the matching
+//! circle. The law's travel-frame curvature times the driving sign is the
+//! rear-axle curvature command.
+//!
+//! # Cost
+//!
+//! Per cycle: one tracker update (its bounded window), at most
+//! `2 * PROJECTION_STEPS + 2` path evaluations for the control point, the
+//! reference point and the goal, and a speed scan of at most
+//! [`crate::SPEED_SCAN_SEGMENTS`] segments (arithmetic only), whatever the
+//! path's length. Acquisition and each change of leg walk the path's
+//! segments once (bounded by `N`).
+//!
+//! # Limitations
+//!
+//! * Call [`Guidance::reset`] when the path changes: the current leg and
+//!   station belong to the path of the previous calls.
+//! * Acquisition takes the leg the tracker finds (nearest, weighted by
+//!   heading). Where two legs overlap with the same body heading (a reverse
+//!   leg driven back over a forward one), start near the intended leg's
+//!   start or re-acquire there.
+//! * The kinematic model has no tyre slip, steering lag or dead time; tune
+//!   the gains for the machine (the HIL harness models those).
 //!
 //! Caution: this is not a certified safety function. Keep an independent
 //! emergency stop; the standards that apply to the machine (e.g. ISO 25119,
@@ -157,6 +183,11 @@ struct Leg<T> {
     direction: Direction,
     /// `false` for a closed path driven in one direction (stations wrap).
     bounded: bool,
+    /// The segment after the leg's end (wrapping on a closed path).
+    next: Option<usize>,
+    /// `true` if the vehicle must stop at the leg's end: the end of an open
+    /// path or a cusp (the next leg has the other direction).
+    stop_at_end: bool,
 }
 
 /// A point projected onto a leg.
@@ -192,6 +223,14 @@ fn leg_of<T: Real, const N: usize>(path: &Path<T, N>, index: usize) -> Leg<T> {
     let end = path
         .segment_start(last + 1)
         .unwrap_or_else(|| path.length());
+    let next = if last + 1 < n {
+        Some(last + 1)
+    } else if path.is_closed() {
+        Some(0)
+    } else {
+        None
+    };
+    let stop_at_end = bounded && next.is_none_or(|k| dir(k) != Some(here));
     Leg {
         first,
         last,
@@ -199,6 +238,8 @@ fn leg_of<T: Real, const N: usize>(path: &Path<T, N>, index: usize) -> Leg<T> {
         end,
         direction: here,
         bounded,
+        next,
+        stop_at_end,
     }
 }
 
@@ -221,15 +262,35 @@ fn eval_on_leg<T: Real, const N: usize>(path: &Path<T, N>, leg: &Leg<T>, s: T) -
     path.eval_in(i, u.clamp_to(T::ZERO, path.segment_length(i)))
 }
 
-/// The leg point at station `s`, continued along the tangent past its ends.
-fn extended_point<T: Real, const N: usize>(path: &Path<T, N>, leg: &Leg<T>, s: T) -> (T, T) {
+/// The leg point at station `s`, continued along the tangent past its
+/// ends, shifted `left` metres along the path's left normal there.
+fn extended_point<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    leg: &Leg<T>,
+    s: T,
+    left: T,
+) -> (T, T) {
     let p = eval_on_leg(path, leg, s);
     let beyond = if leg.bounded {
         s - clamp_on(leg, s)
     } else {
         T::ZERO
     };
-    (p.x + beyond * p.cos, p.y + beyond * p.sin)
+    // Past the end the curvature is taken as zero (the tangent line).
+    let shift = if beyond == T::ZERO { left } else { T::ZERO };
+    (
+        p.x + beyond * p.cos - shift * p.sin,
+        p.y + beyond * p.sin + shift * p.cos,
+    )
+}
+
+/// Where the rear axle runs, left of the path (m), when a control point `a`
+/// metres ahead of it is on an arc of curvature `kappa`: the concentric
+/// circle of radius `sqrt(R^2 - a^2)`, i.e.
+/// `kappa a^2 / (1 + sqrt(1 - kappa^2 a^2))` (plain geometry).
+pub(crate) fn rear_axle_offset<T: Real>(kappa: T, a: T) -> T {
+    let inside = (T::ONE - kappa * kappa * a * a).max(T::ZERO);
+    kappa * a * a / (T::ONE + inside.sqrt())
 }
 
 /// Projects `(qx, qy)` with travel heading `(sin, cos)` onto the leg,
@@ -534,19 +595,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         // Leaving the leg at its end: onto the next leg, at once if it has
         // the same direction (the seam of a loop), after a stop at a cusp.
         if leg.bounded && cp.station >= leg.end - self.config.cusp_tolerance {
-            let next = if leg.last + 1 < path.len() {
-                Some(leg.last + 1)
-            } else if path.is_closed() {
-                Some(0)
-            } else {
-                None
-            };
-            if let Some(n) = next {
-                let nl = leg_of(path, n);
-                let seamless = nl.direction == leg.direction;
+            if let Some(n) = leg.next {
+                let seamless = !leg.stop_at_end;
                 let stopped = f.speed.abs() <= self.config.stopped_speed;
                 if (seamless && cp.station >= leg.end) || (!seamless && stopped) {
-                    leg = nl;
+                    // The only walk over the path's segments outside
+                    // acquisition: once per leg change.
+                    leg = leg_of(path, n);
                     self.law.reset();
                     cp = project(
                         path,
@@ -606,7 +661,10 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let speed = f.speed.abs();
         let look = self.law.lookahead(speed);
         let goal = if look > T::ZERO {
-            let (gx, gy) = extended_point(path, &leg, cp.station + (look - u_cp).max(T::ZERO));
+            let at = cp.station + (look - u_cp).max(T::ZERO);
+            let kappa_goal = eval_on_leg(path, &leg, at).curvature;
+            let shift = rear_axle_offset(kappa_goal, u_cp);
+            let (gx, gy) = extended_point(path, &leg, at, shift);
             let rx = f.x - u_cp * tc;
             let ry = f.y - u_cp * ts;
             let (dx, dy) = (gx - rx, gy - ry);
@@ -630,21 +688,10 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let limited = self.limiter.apply(&self.vehicle, kappa, dt);
         self.saturated = limited.saturated;
         // Stop at a cusp or the path end; otherwise the cap ahead.
-        let stop = if leg.bounded { Some(leg.end) } else { None };
-        let next_same = leg.bounded
-            && (leg.last + 1 < path.len() || path.is_closed())
-            && leg_of(
-                path,
-                if leg.last + 1 < path.len() {
-                    leg.last + 1
-                } else {
-                    0
-                },
-            )
-            .direction
-                == leg.direction;
-        let stop = if next_same { None } else { stop };
-        let mut limit = speed_cap(path, &self.vehicle, cp.station, stop);
+        let stop = if leg.stop_at_end { Some(leg.end) } else { None };
+        // The command holds for one period: cap where the vehicle will be
+        // at its end.
+        let mut limit = speed_cap(path, &self.vehicle, cp.station + speed * dt, stop);
         if stop.is_some_and(|e| cp.station >= e - self.config.cusp_tolerance) {
             limit = T::ZERO;
         }

@@ -18,7 +18,7 @@
 //! The interval ends are always candidates, so the result is the nearest
 //! point on the closed interval, not merely a stationary point.
 
-use crate::path::Path;
+use crate::path::{Path, Placed};
 use crate::real::{c, Real};
 
 /// At most this many pieces per clothoid interval (bounded cost). Enough for
@@ -40,6 +40,31 @@ pub(crate) struct Foot<T> {
     pub dist2: T,
 }
 
+/// What one evaluation of the segment tells about the query point.
+#[derive(Debug, Clone, Copy)]
+struct Probe<T> {
+    /// Squared distance, m^2.
+    dist2: T,
+    /// `f(u) = (p - q) . T`, metres.
+    f: T,
+    /// `f'(u) = 1 - kappa d`.
+    slope: T,
+}
+
+/// Evaluates segment `i` at `u` once and derives everything the search needs.
+fn probe<T: Real, const N: usize>(path: &Path<T, N>, i: usize, u: T, qx: T, qy: T) -> Probe<T> {
+    let p = path.eval_in(i, u);
+    let ex = p.x - qx;
+    let ey = p.y - qy;
+    let f = ex * p.cos + ey * p.sin;
+    let d = ey * p.cos - ex * p.sin; // (p - q) . N, minus the lateral offset
+    Probe {
+        dist2: ex * ex + ey * ey,
+        f,
+        slope: T::ONE + p.curvature * d,
+    }
+}
+
 /// The nearest point to `(qx, qy)` on segment `i` restricted to `[lo, hi]`
 /// (metres into the segment, `0 <= lo <= hi <= length`).
 pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
@@ -51,40 +76,32 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
     qy: T,
 ) -> Foot<T> {
     let pl = *path.placed_at(i);
-    let dist2 = |u: T| {
-        let p = path.eval_in(i, u);
-        let dx = p.x - qx;
-        let dy = p.y - qy;
-        dx * dx + dy * dy
+    let at_lo = probe(path, i, lo, qx, qy);
+    let at_hi = if hi > lo {
+        probe(path, i, hi, qx, qy)
+    } else {
+        at_lo
     };
     let mut best = Foot {
         segment: i,
         offset: lo,
-        dist2: dist2(lo),
+        dist2: at_lo.dist2,
     };
-    if hi > lo {
-        let d = dist2(hi);
-        if d < best.dist2 {
-            best = Foot {
-                segment: i,
-                offset: hi,
-                dist2: d,
-            };
-        }
+    if at_hi.dist2 < best.dist2 {
+        best.offset = hi;
+        best.dist2 = at_hi.dist2;
     }
+    let mut offer = |u: T, dist2: T| {
+        if dist2 < best.dist2 {
+            best.offset = u;
+            best.dist2 = dist2;
+        }
+    };
     let mut consider = |u: T| {
         // The ends are already in `best`: a candidate outside the interval
         // would clamp to one of them, so skip its evaluation (and its trig).
-        if !(u > lo && u < hi) {
-            return;
-        }
-        let d = dist2(u);
-        if d < best.dist2 {
-            best = Foot {
-                segment: i,
-                offset: u,
-                dist2: d,
-            };
+        if u > lo && u < hi {
+            offer(u, probe(path, i, u, qx, qy).dist2);
         }
     };
     // q in the segment's own frame.
@@ -115,23 +132,24 @@ pub(crate) fn nearest_on_segment<T: Real, const N: usize>(
             }
         }
     } else {
-        clothoid_roots(path, i, lo, hi, qx, qy, &mut consider);
+        let probe_at = |u: T| probe(path, i, u, qx, qy);
+        clothoid_roots(&pl, lo, hi, at_lo, at_hi, &probe_at, &mut offer);
     }
     best
 }
 
 /// Local minima of the distance on a clothoid interval, each passed to
-/// `found` (at most one per piece, at most `MAX_PIECES` pieces).
-fn clothoid_roots<T: Real, const N: usize>(
-    path: &Path<T, N>,
-    i: usize,
+/// `found` with its squared distance (at most one per piece, at most
+/// `MAX_PIECES` pieces). The ends were probed by the caller.
+fn clothoid_roots<T: Real>(
+    pl: &Placed<T>,
     lo: T,
     hi: T,
-    qx: T,
-    qy: T,
-    found: &mut impl FnMut(T),
+    at_lo: Probe<T>,
+    at_hi: Probe<T>,
+    probe_at: &impl Fn(T) -> Probe<T>,
+    found: &mut impl FnMut(T, T),
 ) {
-    let pl = *path.placed_at(i);
     let kappa_lo = (pl.kappa0 + pl.sigma * lo).abs();
     let kappa_hi = (pl.kappa0 + pl.sigma * hi).abs();
     let turn = kappa_lo.max(kappa_hi) * (hi - lo);
@@ -140,48 +158,43 @@ fn clothoid_roots<T: Real, const N: usize>(
     let want = ((turn / quarter).to_f64() as u32).saturating_add(1);
     let pieces = want.clamp(1, MAX_PIECES);
     let width = (hi - lo) / T::from_u32(pieces);
-    // f(u) = (p - q) . T and the lateral offset d = (q - p) . N.
-    let f_and_slope = |u: T| {
-        let p = path.eval_in(i, u);
-        let ex = p.x - qx;
-        let ey = p.y - qy;
-        let f = ex * p.cos + ey * p.sin;
-        let d = ey * p.cos - ex * p.sin; // (p - q) . N = -d
-        (f, T::ONE + p.curvature * d)
-    };
     let mut a = lo;
-    let mut fa = f_and_slope(a).0;
+    let mut fa = at_lo.f;
     for k in 1..=pieces {
-        let b = if k == pieces {
-            hi
+        let (b, fb) = if k == pieces {
+            (hi, at_hi.f)
         } else {
-            lo + width * T::from_u32(k)
+            let b = lo + width * T::from_u32(k);
+            (b, probe_at(b).f)
         };
-        let fb = f_and_slope(b).0;
         // `>=`: a foot exactly on a piece boundary is a root of this piece.
         if fa < T::ZERO && fb >= T::ZERO {
-            found(refine(a, b, fa, fb, &f_and_slope));
+            let (u, dist2) = refine(a, b, fa, fb, probe_at);
+            found(u, dist2);
         }
         a = b;
         fa = fb;
     }
 }
 
-/// Safeguarded Newton in the bracket `[a, b]` with `f(a) < 0 < f(b)`.
-fn refine<T: Real>(mut a: T, mut b: T, fa: T, fb: T, f: &impl Fn(T) -> (T, T)) -> T {
+/// Safeguarded Newton in the bracket `[a, b]` with `f(a) < 0 <= f(b)`.
+/// Returns the last evaluated point and its squared distance: it lies
+/// within the convergence tolerance of the root, so a final evaluation at
+/// the Newton step would change nothing but the cost.
+fn refine<T: Real>(mut a: T, mut b: T, fa: T, fb: T, probe_at: &impl Fn(T) -> Probe<T>) -> (T, T) {
     // Start from the secant point: good when the piece is nearly straight.
     let mut u = a - fa * (b - a) / (fb - fa);
+    let mut last = probe_at(u);
     for _ in 0..MAX_ITER {
-        let (fu, slope) = f(u);
-        if fu < T::ZERO {
+        if last.f < T::ZERO {
             a = u;
-        } else if fu > T::ZERO {
+        } else if last.f > T::ZERO {
             b = u;
         } else {
-            return u;
+            break;
         }
-        let mut next = if slope > T::ZERO {
-            u - fu / slope
+        let mut next = if last.slope > T::ZERO {
+            u - last.f / last.slope
         } else {
             a // forces bisection below
         };
@@ -189,10 +202,12 @@ fn refine<T: Real>(mut a: T, mut b: T, fa: T, fb: T, f: &impl Fn(T) -> (T, T)) -
             next = T::HALF * (a + b);
         }
         let tol = T::EPSILON * c(4.0) * (T::ONE + u.abs());
-        if (next - u).abs() <= tol || (b - a) <= tol {
-            return next;
+        let step = (next - u).abs();
+        if step <= tol || (b - a) <= tol {
+            break;
         }
         u = next;
+        last = probe_at(u);
     }
-    u
+    (u, last.dist2)
 }

@@ -175,6 +175,17 @@ mod tests {
     }
 
     #[test]
+    fn differential_rate_and_lateral_caps() {
+        // d kappa / dt = v sigma <= 2 1/m/s with sigma = 4 /m^2 -> 0.5 m/s;
+        // a_lat = 1 m/s^2 on kappa = 0.25 1/m -> 2 m/s (capped at 1.5).
+        let v = Vehicle::<f64>::differential(0.4, 2.0, 2.0).unwrap();
+        assert!((local_speed_limit(&v, 0.0, 0.0, 4.0) - 0.5).abs() < 1e-12);
+        assert!((local_speed_limit(&v, 0.25, 0.25, 0.0) - 1.5).abs() < 1e-12);
+        let v = v.with_max_speed(3.0).unwrap();
+        assert!((local_speed_limit(&v, 0.25, 0.25, 0.0) - 2.0).abs() < 1e-12);
+    }
+
+    #[test]
     fn stop_and_bounded_scan() {
         let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
         let path = PathBuilder::<f64, 64>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();

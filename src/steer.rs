@@ -99,7 +99,9 @@ pub struct SteeringInput<T> {
     /// The lookahead goal point in the travel frame with its origin at the
     /// rear axle: `(ahead, left)` metres. The path point at
     /// [`SteeringLaw::lookahead`] beyond the rear axle's station (on the
-    /// tangent extension past a path end or a cusp).
+    /// tangent extension past a path end or a cusp), shifted to where the
+    /// rear axle runs when the control point is on the path (see
+    /// [`crate::guidance`]).
     pub goal: (T, T),
     /// The control point, metres ahead of the rear axle along the direction
     /// of travel (the vehicle's control point times the driving sign).

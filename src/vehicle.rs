@@ -7,12 +7,12 @@
 //!   axle): a wheelbase `L` and a front-wheel angle `delta` give the rear
 //!   axle's path curvature `kappa = tan(delta) / L`, so
 //!   `delta = atan(L kappa)` (e.g. Rajamani, *Vehicle Dynamics and
-//!   Control*, 2nd ed., 2012, sec. 2.2, with zero slip angles);
+//!   Control*, 2nd ed., 2012, sec. 2.2 (section from memory), with zero slip angles);
 //! * **differential drive**: two driven wheels `b` apart on one axle; a
 //!   curvature `kappa` at speed `v` needs wheel speeds
 //!   `v (1 - kappa b / 2)` (left) and `v (1 + kappa b / 2)` (right)
 //!   (e.g. Siegwart, Nourbakhsh, Scaramuzza, *Introduction to Autonomous
-//!   Mobile Robots*, 2nd ed., 2011, sec. 3.2).
+//!   Mobile Robots*, 2nd ed., 2011, sec. 3.2 (section from memory)).
 //!
 //! Curvature is positive turning left (counter-clockwise) and always refers
 //! to the rear axle (the wheel axle of a differential-drive robot). The yaw
@@ -330,7 +330,7 @@ mod tests {
 
     #[test]
     fn differential_wheel_speeds() {
-        // Siegwart et al. 2011, sec. 3.2: v_l,r = v (1 -+ kappa b / 2).
+        // Siegwart et al. 2011, sec. 3.2 (section from memory): v_l,r = v (1 -+ kappa b / 2).
         // b = 0.5 m, R = 2 m, v = 1 m/s: inner wheel on R - b/2 = 1.75 m,
         // outer on 2.25 m, speeds in the ratio of the radii.
         let v = Vehicle::<f64>::differential(0.5, 2.0, 4.0).unwrap();

@@ -60,7 +60,18 @@
 //! optional integral removes it. Anti-windup: integrate only while the
 //! previous command was not saturated and `|d|` is inside a band, and keep
 //! `|k_i int d ds|` under a limit (1/m, the same units as `w`).
+//!
+//! # Control point (an addition of this crate)
+//!
+//! The law steers the rear axle. With the control point `a` ahead of it
+//! (travel frame), the rear axle must run `kappa a^2 / (1 + sqrt(1 -
+//! kappa^2 a^2))` left of an arc for the control point to be on it (the
+//! concentric circle of radius `sqrt(R^2 - a^2)`). The law follows that
+//! parallel curve: `d` measured from it, its curvature
+//! `kappa / (1 - kappa shift)` and sharpness `sigma / (1 - kappa shift)^2`
+//! (exact for arcs, first order on clothoids).
 
+use crate::guidance::rear_axle_offset;
 use crate::real::{c, Real};
 use crate::steer::{symmetric_clamp, SteerError, SteeringInput, SteeringLaw};
 
@@ -187,20 +198,29 @@ impl<T: Real> FrenetFeedback<T> {
     }
 
     /// The law's body curvature for chained-form input `w` (see the module docs).
-    fn curvature_for(&self, input: &SteeringInput<T>, w: T) -> T {
-        let (d, theta, kappa) = (input.cross_track, input.heading_error, input.curvature);
+    fn curvature_for(&self, input: &SteeringInput<T>, d: T, kappa: T, sigma: T, w: T) -> T {
+        let theta = input.heading_error;
         let scale = (T::ONE - kappa * d).max(c(MIN_FRAME_SCALE));
         let (sn, cs) = theta.sin_cos();
         let tn = sn / cs;
         let feedforward = kappa * cs / scale;
         let cos3 = cs * cs * cs;
-        feedforward + cos3 / (scale * scale) * (w + (input.sharpness * d + kappa * scale * tn) * tn)
+        feedforward + cos3 / (scale * scale) * (w + (sigma * d + kappa * scale * tn) * tn)
     }
 }
 
 impl<T: Real> SteeringLaw<T> for FrenetFeedback<T> {
     fn curvature(&mut self, input: &SteeringInput<T>) -> T {
-        let (d, theta, kappa) = (input.cross_track, input.heading_error, input.curvature);
+        let theta = input.heading_error;
+        // Steer the rear axle along the parallel curve it must follow for
+        // the control point to be on the path (see the module docs): offset
+        // `shift`, curvature `kappa / (1 - kappa shift)`. Both are the path's
+        // own with the control point on the rear axle.
+        let shift = rear_axle_offset(input.curvature, input.control_point);
+        let parallel = (T::ONE - input.curvature * shift).max(c(MIN_FRAME_SCALE));
+        let kappa = input.curvature / parallel;
+        let sigma = input.sharpness / (parallel * parallel);
+        let d = input.cross_track - shift;
         if theta.abs() >= c(THETA_DOMAIN) || T::ONE - kappa * d <= c(MIN_FRAME_SCALE) {
             // Outside the chained form's domain: turn towards the path.
             let toward = if theta > T::ZERO { -T::ONE } else { T::ONE };
@@ -211,7 +231,7 @@ impl<T: Real> SteeringLaw<T> for FrenetFeedback<T> {
         let z3 = scale * sn / cs;
         let integral_term = symmetric_clamp(self.k_i * self.integral, self.integral_limit);
         let w = -self.k_d * d - self.k_theta * z3 - integral_term;
-        let u = self.curvature_for(input, w);
+        let u = self.curvature_for(input, d, kappa, sigma, w);
         // Anti-windup: conditional integration inside the band, clamped state.
         if self.k_i > T::ZERO && !input.saturated && d.abs() < self.integral_band {
             let ds = input.speed.abs() * input.dt * cs / scale;

@@ -5,7 +5,7 @@
 //! axis at the rear axle and passes through a goal point on the path one
 //! lookahead distance ahead. With the goal at `(ahead, left) = (x_g, y_g)`
 //! in the vehicle frame and `l^2 = x_g^2 + y_g^2`, the curvature is
-//! (Coulter 1992, sec. 2, "gamma = 2x / l^2" with his `x` the lateral offset)
+//! (Coulter 1992, "gamma = 2x / l^2" (section not checked here) with his `x` the lateral offset)
 //!
 //! ```text
 //! kappa = 2 y_g / l^2     (equivalently 2 sin(alpha) / l, alpha the bearing of the goal)

@@ -1,6 +1,6 @@
 //! A small kinematic vehicle simulation for the steering tests (the full
 //! simulator is the HIL harness's). Rear-axle unicycle/bicycle kinematics
-//! (e.g. Rajamani, *Vehicle Dynamics and Control*, 2nd ed., 2012, sec. 2.2,
+//! (e.g. Rajamani, *Vehicle Dynamics and Control*, 2nd ed., 2012, sec. 2.2 (from memory),
 //! zero slip), an ideal actuator that takes the commanded curvature (the
 //! command is already rate limited), a speed that follows
 //! `min(target, speed_limit)` at bounded acceleration, optional constant
