@@ -176,8 +176,11 @@ pub fn run(plan: &Plan, jobs: &[Job], tick: &(dyn Fn() + Sync)) -> anyhow::Resul
         .collect()
 }
 
-/// The metrics a sweep reports: name, unit, value of one run.
-pub fn columns() -> Vec<(&'static str, &'static str, fn(&Metrics) -> f64)> {
+/// A reported metric: name, unit, and how to read it from a run's figures.
+pub type Column = (&'static str, &'static str, fn(&Metrics) -> f64);
+
+/// The metrics a sweep reports.
+pub fn columns() -> Vec<Column> {
     vec![
         ("straight RMS", "m", |m| m.straight.rms),
         ("straight p95 |e|", "m", |m| m.straight.p95_abs),

@@ -235,9 +235,9 @@ pre{{background:#f7f7f7;padding:8px;overflow-x:auto}}</style></head><body>\n\
         cls = if pass { "pass" } else { "fail" },
         verdict = if pass { "PASS" } else { "FAIL" },
     );
-    let _ = write!(
+    let _ = writeln!(
         s,
-        "<p>Seed {}; simulated {:.1} s; {:.1} m driven along a {:.1} m path.</p>\n",
+        "<p>Seed {}; simulated {:.1} s; {:.1} m driven along a {:.1} m path.</p>",
         scenario.spec.seed,
         m.sim_time_s,
         m.distance_m,
