@@ -4,13 +4,13 @@
 //! an epoch is due; on a control tick the controller gets the newest
 //! delivered epoch and returns set-points, which the actuators then follow;
 //! on a record tick the representative point is projected onto the
-//! continuous path with the core's exact projection (a [`kappaline::Tracker`]
-//! fed the true position) and a trace row is stored.
+//! continuous path with the core's exact projection
+//! ([`crate::truth::TruthProjector`]) and a trace row is stored.
 //!
 //! Time is counted in whole physics steps, so the control and sensor ticks
 //! never drift against each other.
 
-use kappaline::{Pose, TrackStatus, Tracker, TrackerConfig};
+use kappaline::{Pose, TrackStatus};
 
 use crate::firmware::{Actuation, Cycle, Firmware, SupervisorStatus};
 use crate::scenario::{FaultSpec, Scenario, VehicleSpec};
@@ -19,6 +19,7 @@ use crate::sim::{
     Bicycle, BodyState, DiffDrive, Drive, GnssFault, GnssModel, LagActuator, Plant, SensorSuite,
     Terrain,
 };
+use crate::truth::TruthProjector;
 
 /// One recorded sample of the run.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -269,14 +270,7 @@ pub fn run<F: Firmware + ?Sized>(
         | VehicleSpec::Differential { max_speed_m_s, .. } => max_speed_m_s,
     };
     let record_dt = per_record as f64 * h;
-    let mut truth = Tracker::new(TrackerConfig {
-        window_back: 2.0,
-        window_ahead: 2.0 + 4.0 * top_speed * record_dt,
-        lost_distance: 1e4,
-        lookahead: 0.0,
-        heading_weight: 1.0,
-    })
-    .ok();
+    let mut truth = TruthProjector::new(path, top_speed * record_dt).ok();
     let mut state = start_state(scenario);
     let mut drive = match plant {
         Plant::Bicycle(_) => Drive::Steer {
@@ -367,7 +361,7 @@ pub fn run<F: Firmware + ?Sized>(
         if k % per_record == 0 {
             let (px, py) = state.point(point_ahead, 0.0);
             let pose = Pose::new(px, py, state.heading);
-            let tr = truth.as_mut().and_then(|tr| tr.update(path, &pose).ok());
+            let tr = truth.as_mut().and_then(|tr| tr.project(&pose));
             let row = match tr {
                 Some(tr) => {
                     if let Some(ls) = last_station {
@@ -380,10 +374,8 @@ pub fn run<F: Firmware + ?Sized>(
                     }
                     last_station = Some(tr.station);
                     let on = tr.status == TrackStatus::OnPath;
-                    let straight = on && tr.foot.curvature == 0.0 && tr.foot.sharpness == 0.0;
-                    let into = path
-                        .segment_start(tr.foot.segment)
-                        .map_or(0.0, |s0| tr.station - s0);
+                    let straight = on && tr.curvature == 0.0 && tr.sharpness == 0.0;
+                    let into = tr.into_segment;
                     if tr.status == TrackStatus::PastEnd {
                         past_end_since.get_or_insert(t);
                     } else {
@@ -401,7 +393,7 @@ pub fn run<F: Firmware + ?Sized>(
                         station_m: tr.station,
                         cross_track_m: tr.cross_track,
                         heading_error_rad: tr.heading_error,
-                        path_curvature_per_m: tr.foot.curvature,
+                        path_curvature_per_m: tr.curvature,
                         straight_pass: straight && into >= skip,
                         curved: on && !straight,
                         on_path: on,

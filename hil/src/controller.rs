@@ -7,12 +7,12 @@
 //!
 //! The controller runs in `f32` by default, as on a microcontroller with a
 //! single-precision FPU, on its own copy of the path rebuilt from the host
-//! path's anchors; the harness measures in `f64` against the host path.
+//! path's segments; the harness measures in `f64` against the host path.
 
 use kappaline::{
-    control_point, AnchoredSegment, Continuity, Fix, FrenetFeedback, Guidance, GuidanceInput,
-    GuidanceStatus, LeverArm, Path, PurePursuit, Real, Segment, Stanley, SteeringLaw,
-    SupervisorConfig, TrackerConfig, Vehicle,
+    control_point, Continuity, Direction, Fix, FrenetFeedback, Guidance, GuidanceInput,
+    GuidanceStatus, LeverArm, Path, PathBuilder, Pose, PurePursuit, Real, Segment, Stanley,
+    SteeringLaw, SupervisorConfig, TrackerConfig, Vehicle,
 };
 
 use crate::firmware::{Actuation, Cycle, Firmware, SupervisorStatus};
@@ -36,35 +36,44 @@ fn steer_err(field: &str) -> impl Fn(kappaline::SteerError) -> anyhow::Error + '
     move |e| anyhow::anyhow!("{field}: refused by the core: {e:?}")
 }
 
-/// The path in the controller's number type, from the host path's anchors.
+/// The path in the controller's number type: the host path's segments
+/// rounded to `T` and chained again from its start pose (cusps where the
+/// driving direction changes), as a path loaded on the target would be.
 ///
 /// # Errors
 /// If the core refuses the converted path.
 pub fn convert_path<T: Real>(host: &HostPath) -> anyhow::Result<Path<T, MAX_SEGMENTS>> {
-    let mut parts = Vec::with_capacity(host.len());
+    let f = T::from_f64;
+    let start = host.anchor(0).unwrap_or_default();
+    let mut b =
+        PathBuilder::<T, MAX_SEGMENTS>::new(Pose::new(f(start.x), f(start.y), f(start.heading)))
+            .map_err(|e| anyhow::anyhow!("path start: {e}"))?;
+    let mut prev: Option<Direction> = None;
     for i in 0..host.len() {
-        let (Some(seg), Some(a)) = (host.segment(i), host.anchor(i)) else {
+        let Some(seg) = host.segment(i) else {
             anyhow::bail!("path: segment {i} missing");
         };
-        let s = Segment::clothoid(
-            T::from_f64(seg.length()),
-            T::from_f64(seg.kappa0()),
-            T::from_f64(seg.sigma()),
-        )
-        .map_err(|e| anyhow::anyhow!("path segment {i}: {e}"))?
-        .with_direction(seg.direction());
-        parts.push(AnchoredSegment {
-            segment: s,
-            start: kappaline::Pose::new(T::from_f64(a.x), T::from_f64(a.y), T::from_f64(a.heading)),
-        });
+        let s = Segment::clothoid(f(seg.length()), f(seg.kappa0()), f(seg.sigma()))
+            .map_err(|e| anyhow::anyhow!("path segment {i}: {e}"))?
+            .with_direction(seg.direction());
+        let pushed = if prev.is_some_and(|d| d != s.direction()) {
+            b.try_push_cusp(s)
+        } else {
+            b.try_push(s)
+        };
+        pushed.map_err(|e| anyhow::anyhow!("path segment {i} in controller precision: {e}"))?;
+        prev = Some(s.direction());
     }
-    // f32 anchors round to about 1e-5 m over a few hundred metres.
-    let tol = Continuity {
-        position: 1e-3,
-        heading: 1e-3,
+    let path = if host.is_closed() {
+        // Rounding the segments to f32 leaves the loop a few micrometres open.
+        b.close(Continuity {
+            position: 1e-3,
+            heading: 1e-3,
+        })
+    } else {
+        b.build()
     };
-    Path::from_anchored(&parts, tol, host.is_closed())
-        .map_err(|e| anyhow::anyhow!("path in controller precision: {e}"))
+    path.map_err(|e| anyhow::anyhow!("path in controller precision: {e}"))
 }
 
 /// The core's vehicle description of the scenario's machine.

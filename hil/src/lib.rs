@@ -25,3 +25,4 @@ pub mod runner;
 pub mod scenario;
 pub mod sim;
 pub mod sweep;
+pub mod truth;

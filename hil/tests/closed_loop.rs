@@ -293,3 +293,71 @@ fn every_controller_law_and_precision_runs() {
         }
     }
 }
+
+/// Passes closer than the turning circle with reversing allowed: the core
+/// builds forward-reverse-forward headland turns with cusps; the machine
+/// stops at each cusp, backs up and goes on, and the truth projection
+/// follows it leg by leg (the reversing leg runs back alongside the turn).
+#[test]
+fn reversing_headland_turns_are_driven_through_their_cusps() {
+    let s = scenario(
+        "field",
+        &[
+            "path.swath_m=6.0",
+            "path.allow_reverse=true",
+            "vehicle.speed_lag_s=0.3",
+            "vehicle.max_accel_m_s2=1.5",
+            "thresholds.forbid_status=[\"fault\"]",
+            "thresholds.max_lost_s=1.0",
+        ],
+    );
+    let cusps = (1..s.path.len())
+        .filter(|&i| {
+            s.path.segment(i).map(|a| a.direction()) != s.path.segment(i - 1).map(|b| b.direction())
+        })
+        .count();
+    assert_eq!(cusps, 6, "two cusps per turn, three turns");
+    let o = run(&s);
+    assert!(o.pass(), "{:?}", failed(&o));
+    assert!(
+        o.run.trace.iter().any(|r| r.speed_m_s < -1.0),
+        "never reversed"
+    );
+    assert!(
+        o.metrics.curved.max_abs < 0.4,
+        "{}",
+        o.metrics.curved.max_abs
+    );
+    assert_trace_finite(&o);
+}
+
+/// A steering actuator stuck for 1.5 s at the entry of the first headland
+/// turn: the machine runs wide (the error grows well beyond the fault-free
+/// run), then recovers; no NaN.
+#[test]
+fn stuck_steering_runs_wide_and_recovers() {
+    let clean = run(&scenario("field", &["duration_s=90.0"]));
+    let stuck = run(&scenario(
+        "field",
+        &[
+            "duration_s=90.0",
+            "faults=[{ type = \"steer_stuck\", at_s = 50.0, duration_s = 1.5 }]",
+            "thresholds={}",
+        ],
+    ));
+    assert!(
+        stuck.metrics.curved.max_abs > clean.metrics.curved.max_abs + 0.1,
+        "{} vs {}",
+        stuck.metrics.curved.max_abs,
+        clean.metrics.curved.max_abs
+    );
+    let late = stuck
+        .run
+        .trace
+        .iter()
+        .filter(|r| r.t_s > 85.0)
+        .map(|r| r.cross_track_m.abs())
+        .fold(0.0, f64::max);
+    assert!(late < 0.1, "not recovered: {late}");
+    assert_trace_finite(&stuck);
+}
