@@ -183,10 +183,10 @@ pub type Column = (&'static str, &'static str, fn(&Metrics) -> f64);
 pub fn columns() -> Vec<Column> {
     vec![
         ("straight RMS", "m", |m| m.straight.rms),
-        ("straight p95 |e|", "m", |m| m.straight.p95_abs),
-        ("straight max |e|", "m", |m| m.straight.max_abs),
+        ("straight p95 abs", "m", |m| m.straight.p95_abs),
+        ("straight max abs", "m", |m| m.straight.max_abs),
         ("curved RMS", "m", |m| m.curved.rms),
-        ("overall max |e|", "m", |m| m.overall.max_abs),
+        ("overall max abs", "m", |m| m.overall.max_abs),
         ("heading RMS", "deg", |m| m.heading_rms_deg),
         ("settling distance", "m", |m| {
             m.settle_distance_m.unwrap_or(f64::NAN)
