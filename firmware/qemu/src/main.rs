@@ -89,6 +89,8 @@ fn check(ok: bool, why: &str) {
     }
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn measure_trig(syst: &mut SYST) {
     let mut acc = 0.0f32;
     let n = count(syst, |i| {
@@ -105,6 +107,8 @@ fn measure_trig(syst: &mut SYST) {
 }
 
 /// Runs the tracker along a path, a step of 0.1 m per call, 0.2 m left.
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn drive<const N: usize>(syst: &mut SYST, path: &Path<f32, N>, label: &str) {
     let mut tracker = match Tracker::new(TrackerConfig::field()) {
         Ok(t) => t,
@@ -142,6 +146,8 @@ fn drive<const N: usize>(syst: &mut SYST, path: &Path<f32, N>, label: &str) {
     report("  cursor advance by 0.1 m", m);
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn line_path(syst: &mut SYST) {
     let path = match PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.3))
         .and_then(|b| b.push(Segment::line(500.0)?))
@@ -165,6 +171,8 @@ fn line_path(syst: &mut SYST) {
     drive(syst, &path, "tracker update, line");
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn arc_path(syst: &mut SYST) {
     let path = match PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0))
         .and_then(|b| b.push(Segment::arc(2.0 * PI * 20.0, 0.05)?))
@@ -184,6 +192,8 @@ fn arc_path(syst: &mut SYST) {
     drive(syst, &path, "tracker update, arc (closed circle)");
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn clothoid_path(syst: &mut SYST) {
     let path = match PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0))
         .and_then(|b| b.push(Segment::transition(60.0, 0.0, 0.1)?))
@@ -195,6 +205,8 @@ fn clothoid_path(syst: &mut SYST) {
     drive(syst, &path, "tracker update, clothoid");
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn long_path(syst: &mut SYST) {
     // 200 segments: the cost of an update must not grow with path length.
     let mut b =
@@ -214,6 +226,8 @@ fn long_path(syst: &mut SYST) {
 
 /// One full control update: tracker, steering law, limits, speed cap and
 /// supervisor, on a field pass with a clothoid entry into a turn.
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn guidance(syst: &mut SYST) {
     let path = match PathBuilder::<f32, 8>::new(Pose::new(0.0, 0.0, 0.0))
         .and_then(|b| b.push(Segment::line(30.0)?))
@@ -250,6 +264,8 @@ fn guidance(syst: &mut SYST) {
     );
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn guidance_with<L: SteeringLaw<f32>>(
     syst: &mut SYST,
     path: &Path<f32, 8>,
