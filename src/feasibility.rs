@@ -38,6 +38,7 @@ use crate::error::PathError;
 use crate::path::Path;
 use crate::pose::Direction;
 use crate::real::Real;
+use crate::vehicle::{Chassis, Vehicle};
 
 /// A vehicle's limits as they bear on a path's shape.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -107,6 +108,35 @@ impl<T: Real> PathLimits<T> {
             Some(max_steer_rate / (wheelbase * speed)),
             T::from_f64(1e-6),
         )
+    }
+
+    /// The limits of a [`Vehicle`] driving at the planned `speed` (m/s, > 0):
+    /// [`PathLimits::front_steered`] for a front-steered vehicle; for a
+    /// differential drive its curvature limit and `max_curvature_rate / v`.
+    ///
+    /// # Errors
+    /// As [`PathLimits::new`], and [`PathError::OutOfRange`] for a speed
+    /// that is not positive.
+    pub fn for_vehicle(vehicle: &Vehicle<T>, speed: T) -> Result<Self, PathError> {
+        if !speed.is_finite() {
+            return Err(PathError::NonFinite { index: usize::MAX });
+        }
+        if speed <= T::ZERO {
+            return Err(PathError::OutOfRange);
+        }
+        match vehicle.chassis() {
+            Chassis::FrontSteered { wheelbase } => Self::front_steered(
+                wheelbase,
+                vehicle.max_steer(),
+                vehicle.max_steer_rate(),
+                speed,
+            ),
+            Chassis::DifferentialDrive { .. } => Self::new(
+                vehicle.max_curvature(),
+                Some(vehicle.max_curvature_rate() / speed),
+                T::from_f64(1e-6),
+            ),
+        }
     }
 
     /// Minimum turning radius, metres: `1 / max_curvature`.
@@ -324,5 +354,21 @@ mod tests {
         // The list is cut at M, the count is not.
         let short = check_path::<f64, 4, 1>(&path, &limits);
         assert_eq!((short.violations.len(), short.total), (1, 3));
+    }
+
+    #[test]
+    fn limits_from_a_vehicle() {
+        // Same bicycle as above: R = 10 m, sharpness rate / (L v) = 0.5 / 5.
+        let v = Vehicle::front_steered(2.5f64, libm::atan(0.25), 0.5).unwrap();
+        let l = PathLimits::for_vehicle(&v, 2.0).unwrap();
+        assert!((l.min_radius() - 10.0).abs() < 1e-12);
+        assert!((l.max_sharpness.unwrap() - 0.1).abs() < 1e-15);
+        assert_eq!(PathLimits::for_vehicle(&v, 0.0), Err(PathError::OutOfRange));
+        assert!(PathLimits::for_vehicle(&v, f64::NAN).is_err());
+        // Differential drive: its own curvature and curvature-rate limits.
+        let d = Vehicle::differential(0.5f64, 2.0, 4.0).unwrap();
+        let l = PathLimits::for_vehicle(&d, 1.0).unwrap();
+        assert!((l.max_curvature - 2.0).abs() < 1e-15);
+        assert!((l.max_sharpness.unwrap() - 4.0).abs() < 1e-15);
     }
 }

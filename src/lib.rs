@@ -27,6 +27,13 @@
 //! | [`PathBuilder`], [`Path`] | up to `N` segments placed at anchors computed in `f64` |
 //! | [`Cursor`] | a position on the path, advanced in O(1) per step; lookahead |
 //! | [`Tracker`] | windowed projection: station, cross-track, heading error, curvature |
+//! | [`Guidance`] | the per-cycle call: tracker, [`SteeringLaw`], limits, speed cap, supervisor |
+//! | [`PurePursuit`], [`Stanley`], [`FrenetFeedback`] | steering laws giving a curvature command |
+//! | [`Vehicle`] | wheelbase or track width, steering range and rate, control point |
+//! | [`fit_g1`], [`clothoid_spline`], [`corner_path`] | paths from poses and waypoints |
+//! | [`Passes`], [`HeadlandTurn`] | field passes as offsets of a reference, turns between them |
+//! | [`LocalFrame`], [`control_point`] | WGS84 to local east-north-up; antenna lever arm |
+//! | [`check_path`] | a path against a vehicle's curvature and sharpness limits |
 //! | [`Real`] | the numeric backend (`f32`, `f64`) |
 //! | [`fresnel()`], [`generalized_fresnel`] | Fresnel integrals in `no_std` |
 //!
@@ -60,23 +67,35 @@
     allow(clippy::unwrap_used, clippy::indexing_slicing, clippy::panic)
 )]
 
+// The path and where the vehicle is on it.
 mod complex;
 mod cursor;
 mod error;
 pub mod fresnel;
-pub mod guidance;
-mod limits;
 mod path;
 mod pose;
 mod project;
 mod real;
 mod segment;
-mod speed;
-pub mod steer;
-pub mod supervisor;
 mod tracker;
 #[cfg_attr(feature = "fast-math", allow(dead_code))]
 mod trig;
+
+// Building paths.
+mod corner;
+mod feasibility;
+mod fit;
+mod geodesy;
+mod headland;
+mod lever_arm;
+mod passes;
+
+// Steering.
+pub mod guidance;
+mod limits;
+mod speed;
+pub mod steer;
+pub mod supervisor;
 mod vehicle;
 
 pub use cursor::{Cursor, Travel};
@@ -87,15 +106,6 @@ pub use pose::{Direction, PathPoint, Pose};
 pub use real::Real;
 pub use segment::{Segment, SegmentKind};
 pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS};
-
-// Path building (issue 4).
-mod corner;
-mod feasibility;
-mod fit;
-mod geodesy;
-mod headland;
-mod lever_arm;
-mod passes;
 
 pub use corner::{corner_path, Corner, CornerConfig, CornerError, TurnShape};
 pub use feasibility::{check_path, FeasibilityReport, PathLimits, Violation, ViolationKind};
@@ -114,7 +124,6 @@ pub use passes::{
     offset_curvature, reversed_path, Pass, PassError, PassPoint, PassTracking, Passes, Side,
 };
 
-// Steering (issue 3).
 pub use guidance::{Command, Fix, Guidance, GuidanceInput, GuidanceStatus, PROJECTION_STEPS};
 pub use limits::{Limited, SteerLimiter};
 pub use speed::{local_speed_limit, speed_cap, SPEED_SCAN_SEGMENTS};

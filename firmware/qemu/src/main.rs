@@ -17,7 +17,9 @@ use cortex_m::peripheral::{syst::SystClkSource, SYST};
 use cortex_m_rt::{entry, exception, ExceptionFrame};
 use cortex_m_semihosting::{debug, hprintln};
 use kappaline::{
-    Cursor, Path, PathBuilder, Pose, Real, Segment, TrackStatus, Tracker, TrackerConfig,
+    Cursor, Fix, FrenetFeedback, Guidance, GuidanceInput, GuidanceStatus, Path, PathBuilder, Pose,
+    PurePursuit, Real, Segment, Stanley, SteeringLaw, SupervisorConfig, TrackStatus, Tracker,
+    TrackerConfig, Vehicle,
 };
 
 /// Instructions per SysTick tick, times 10 (mps2: 40; micro:bit: 62.5).
@@ -49,6 +51,7 @@ fn main() -> ! {
     arc_path(&mut syst);
     clothoid_path(&mut syst);
     long_path(&mut syst);
+    guidance(&mut syst);
     hprintln!("all checks passed");
     debug::exit(debug::EXIT_SUCCESS);
     loop {
@@ -86,6 +89,8 @@ fn check(ok: bool, why: &str) {
     }
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn measure_trig(syst: &mut SYST) {
     let mut acc = 0.0f32;
     let n = count(syst, |i| {
@@ -102,6 +107,8 @@ fn measure_trig(syst: &mut SYST) {
 }
 
 /// Runs the tracker along a path, a step of 0.1 m per call, 0.2 m left.
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn drive<const N: usize>(syst: &mut SYST, path: &Path<f32, N>, label: &str) {
     let mut tracker = match Tracker::new(TrackerConfig::field()) {
         Ok(t) => t,
@@ -139,6 +146,8 @@ fn drive<const N: usize>(syst: &mut SYST, path: &Path<f32, N>, label: &str) {
     report("  cursor advance by 0.1 m", m);
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn line_path(syst: &mut SYST) {
     let path = match PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.3))
         .and_then(|b| b.push(Segment::line(500.0)?))
@@ -162,6 +171,8 @@ fn line_path(syst: &mut SYST) {
     drive(syst, &path, "tracker update, line");
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn arc_path(syst: &mut SYST) {
     let path = match PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0))
         .and_then(|b| b.push(Segment::arc(2.0 * PI * 20.0, 0.05)?))
@@ -181,6 +192,8 @@ fn arc_path(syst: &mut SYST) {
     drive(syst, &path, "tracker update, arc (closed circle)");
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn clothoid_path(syst: &mut SYST) {
     let path = match PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0))
         .and_then(|b| b.push(Segment::transition(60.0, 0.0, 0.1)?))
@@ -192,6 +205,8 @@ fn clothoid_path(syst: &mut SYST) {
     drive(syst, &path, "tracker update, clothoid");
 }
 
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
 fn long_path(syst: &mut SYST) {
     // 200 segments: the cost of an update must not grow with path length.
     let mut b =
@@ -207,6 +222,112 @@ fn long_path(syst: &mut SYST) {
     }
     let path = b.build().unwrap_or_else(|_| fail("long path"));
     drive(syst, &path, "tracker update, 200 line/arc segments");
+}
+
+/// One full control update: tracker, steering law, limits, speed cap and
+/// supervisor, on a field pass with a clothoid entry into a turn.
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
+fn guidance(syst: &mut SYST) {
+    let path = match PathBuilder::<f32, 8>::new(Pose::new(0.0, 0.0, 0.0))
+        .and_then(|b| b.push(Segment::line(30.0)?))
+        .and_then(|b| b.push(Segment::transition(6.0, 0.0, 0.125)?))
+        .and_then(|b| b.push(Segment::arc(10.0, 0.125)?))
+        .and_then(|b| b.push(Segment::transition(6.0, 0.125, 0.0)?))
+        .and_then(|b| b.push(Segment::line(30.0)?))
+        .and_then(|b| b.build())
+    {
+        Ok(p) => p,
+        Err(_) => fail("guidance path"),
+    };
+    let vehicle = Vehicle::front_steered(2.5f32, 0.6, 0.6).unwrap_or_else(|_| fail("vehicle"));
+    guidance_with(
+        syst,
+        &path,
+        vehicle,
+        PurePursuit::tractor(),
+        "guidance, pure pursuit,",
+    );
+    guidance_with(
+        syst,
+        &path,
+        vehicle,
+        Stanley::tractor(),
+        "guidance, Stanley,",
+    );
+    guidance_with(
+        syst,
+        &path,
+        vehicle,
+        FrenetFeedback::tractor(),
+        "guidance, Frenet,",
+    );
+}
+
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
+fn guidance_with<L: SteeringLaw<f32>>(
+    syst: &mut SYST,
+    path: &Path<f32, 8>,
+    vehicle: Vehicle<f32>,
+    law: L,
+    label: &str,
+) {
+    let supervisor = SupervisorConfig::default_for(&vehicle);
+    let mut g = Guidance::new(vehicle, law, TrackerConfig::field(), supervisor)
+        .unwrap_or_else(|_| fail("guidance"));
+    let dt = 0.1f32;
+    let speed = 2.0f32;
+    let mut cursor = Cursor::start();
+    let mut now = 0.0f32;
+    let input = |cursor: &mut Cursor<f32>, now: f32| {
+        let p = match cursor.advance(path, speed * dt) {
+            Ok((p, _)) => p,
+            Err(_) => fail("advance"),
+        };
+        GuidanceInput {
+            fix: Some(Fix {
+                x: p.x - 0.1 * p.sin,
+                y: p.y + 0.1 * p.cos,
+                heading: p.heading(),
+                speed,
+                time: now,
+            }),
+            now,
+            dt,
+        }
+    };
+    // Settle into Following first (acquisition is not the steady cost).
+    for _ in 0..20 {
+        now += dt;
+        let i = input(&mut cursor, now);
+        let _ = g.step(path, &i);
+    }
+    for part in ["straight", "clothoid and arc"] {
+        if part != "straight" {
+            // Drive on to the clothoid that starts at station 30.
+            while cursor.station(path) < 30.0 {
+                now += dt;
+                let i = input(&mut cursor, now);
+                let _ = g.step(path, &i);
+            }
+        }
+        let mut following = 0u32;
+        let n = count(syst, |_| {
+            now += dt;
+            let i = input(&mut cursor, now);
+            let cmd = g.step(path, &i);
+            check(
+                cmd.curvature.is_finite() && cmd.speed_limit.is_finite(),
+                "command finite",
+            );
+            if cmd.status == GuidanceStatus::Following {
+                following += 1;
+            }
+        });
+        hprintln!("{:<24}{:<20} {:>7}", label, part, n);
+        check(following == REPS, "guidance following");
+    }
 }
 
 #[exception]
