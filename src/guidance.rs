@@ -488,6 +488,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             }
             (Mode::Following, _) => {
                 self.mode = Mode::Degraded(now);
+                self.coast(path, dt);
                 self.hold(GuidanceStatus::Degraded, false)
             }
             (Mode::Degraded(since), _) => {
@@ -495,6 +496,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                     self.mode = Mode::Lost;
                     self.straighten(GuidanceStatus::Lost, dt)
                 } else {
+                    self.coast(path, dt);
                     self.hold(GuidanceStatus::Degraded, false)
                 }
             }
@@ -716,6 +718,20 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             status,
             tracking,
         }
+    }
+
+    /// Dead reckoning in station while fixes are missing: moves the
+    /// tracker's window on by the distance driven at the last speed, so it
+    /// is still around the vehicle when fixes return (stations increase in
+    /// the direction of travel on forward and reverse legs alike).
+    fn coast<const N: usize>(&mut self, path: &Path<T, N>, dt: T) {
+        let ds = self.speed.abs() * dt;
+        if !ds.is_finite() {
+            return;
+        }
+        let (moved, _) = self.tracker.cursor().moved(path, ds);
+        self.tracker.resume_at(moved);
+        self.station += ds;
     }
 
     /// Holds the last curvature; `stop` requests a stop, else keeps the last limit.

@@ -217,6 +217,37 @@ fn short_dropout_recovers_directly() {
 }
 
 #[test]
+fn window_coasts_through_a_dropout() {
+    // A narrow tracker window (0.5 m ahead, lost at 0.5 m) and a 2 s hold:
+    // 1.5 s without fixes at 2 m/s moves the vehicle 3 m, far beyond the
+    // window. The guidance moves the window on by dead reckoning, so the
+    // first fix after the gap is followed, not lost. (Contract of
+    // `Guidance`: Degraded holds and coasts; see src/guidance.rs.)
+    let v = vehicle();
+    let tracker = TrackerConfig {
+        window_back: 0.5,
+        window_ahead: 0.5,
+        lost_distance: 0.5,
+        ..TrackerConfig::field()
+    };
+    let supervisor = SupervisorConfig {
+        hold_time: 2.0,
+        ..SupervisorConfig::default_for(&v)
+    };
+    let mut d = Drive::new();
+    d.g = Guidance::new(v, PurePursuit::tractor(), tracker, supervisor).unwrap();
+    let mut x = d.follow(10.0, 0.0, 10);
+    for _ in 0..30 {
+        assert_eq!(d.with(None).status, GuidanceStatus::Degraded);
+        x += 2.0 * DT;
+    }
+    let c = d.at(x, 0.0, 0.0);
+    assert_eq!(c.status, GuidanceStatus::Following);
+    let t = c.tracking.unwrap();
+    assert!((t.station - x).abs() < 0.05, "station {} vs {x}", t.station);
+}
+
+#[test]
 fn input_stops_arriving() {
     let mut d = Drive::new();
     d.follow(10.0, 0.5, 10);
