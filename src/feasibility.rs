@@ -1,8 +1,9 @@
 //! Is a path drivable? Curvature, sharpness and curvature jumps checked
 //! against a vehicle's limits, with the stations where each limit is broken.
 //!
-//! The limits are plain numbers ([`PathLimits`]) so that path building does
-//! not depend on the steering stream's vehicle model:
+//! The limits are plain numbers ([`PathLimits`]), so a planner can check a
+//! path without a full vehicle description; [`PathLimits::for_vehicle`]
+//! derives them from a [`Vehicle`]:
 //!
 //! * **curvature**: `|kappa| <= max_curvature` (1/m), the tightest turn the
 //!   vehicle can steer (for a front-steered vehicle `tan(delta_max) / L`);
