@@ -130,3 +130,8 @@ pub use speed::{local_speed_limit, speed_cap, SPEED_SCAN_SEGMENTS};
 pub use steer::{FrenetFeedback, PurePursuit, Stanley, SteerError, SteeringInput, SteeringLaw};
 pub use supervisor::SupervisorConfig;
 pub use vehicle::{Chassis, Vehicle};
+
+/// The README's example is compiled and run as a doctest.
+#[cfg(doctest)]
+#[doc = include_str!("../README.md")]
+struct ReadmeDoctests;

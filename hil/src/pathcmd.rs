@@ -286,6 +286,10 @@ pub fn reload_f32(path: &Path<f64, MAX_SEGMENTS>) -> Result<Path<f32, MAX_SEGMEN
 
 /// Runs `build-path` with the arguments after the verb.
 pub fn run(args: &[String]) -> Result<()> {
+    if args.iter().any(|a| a == "--help" || a == "-h") {
+        println!("{USAGE}");
+        return Ok(());
+    }
     let o = parse_args(args)?;
     let b = build(&o)?;
     reload_f32(&b.path)?;
