@@ -674,11 +674,18 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         } else {
             (T::ZERO, T::ZERO)
         };
+        // Feedforward taken the actuator's lag ahead (Vehicle::with_steer_lag).
+        let preview = speed * self.vehicle.steer_lag();
+        let ahead = if preview > T::ZERO {
+            eval_on_leg(path, &leg, reference.station + preview)
+        } else {
+            reference.point
+        };
         let input = SteeringInput {
             cross_track: reference.cross_track,
             heading_error: reference.heading_error,
-            curvature: reference.point.curvature,
-            sharpness: reference.point.sharpness,
+            curvature: ahead.curvature,
+            sharpness: ahead.sharpness,
             speed,
             goal,
             control_point: u_cp,

@@ -81,6 +81,7 @@ pub struct Vehicle<T> {
     max_lateral_acceleration: T,
     max_speed: T,
     max_deceleration: T,
+    steer_lag: T,
 }
 
 /// Largest steering angle accepted, rad (80 degrees: keeps `tan` finite and sane).
@@ -142,6 +143,7 @@ impl<T: Real> Vehicle<T> {
             max_lateral_acceleration: c(1.5),
             max_speed: c(4.0),
             max_deceleration: c(1.0),
+            steer_lag: T::ZERO,
         })
     }
 
@@ -172,6 +174,7 @@ impl<T: Real> Vehicle<T> {
             max_lateral_acceleration: c(1.0),
             max_speed: c(1.5),
             max_deceleration: c(1.0),
+            steer_lag: T::ZERO,
         })
     }
 
@@ -216,6 +219,30 @@ impl<T: Real> Vehicle<T> {
     pub fn with_max_deceleration(mut self, a: T) -> Result<Self, SteerError> {
         self.max_deceleration = positive(a)?;
         Ok(self)
+    }
+
+    /// The same vehicle with the time constant of its steering actuator, s
+    /// (>= 0; 0, the default, for an actuator much faster than the control
+    /// period). The guidance takes the curvature feedforward this much
+    /// travel time ahead, so that the wheels, arriving late by the lag,
+    /// turn in where the path does.
+    ///
+    /// # Errors
+    /// [`SteerError::NonFinite`] or [`SteerError::OutOfRange`] (negative).
+    pub fn with_steer_lag(mut self, tau: T) -> Result<Self, SteerError> {
+        if !tau.is_finite() {
+            return Err(SteerError::NonFinite);
+        }
+        if tau < T::ZERO {
+            return Err(SteerError::OutOfRange);
+        }
+        self.steer_lag = tau;
+        Ok(self)
+    }
+
+    /// Steering actuator time constant the guidance compensates, s.
+    pub fn steer_lag(&self) -> T {
+        self.steer_lag
     }
 
     /// The chassis kind and dimension.

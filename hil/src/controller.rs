@@ -91,6 +91,7 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
             control_point_ahead_m,
             max_lateral_accel_m_s2,
             max_decel_m_s2,
+            steer_lag_s,
             ..
         } => Vehicle::front_steered(
             f(wheelbase_m),
@@ -105,7 +106,10 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
         .with_max_lateral_acceleration(f(max_lateral_accel_m_s2))
         .map_err(steer_err("vehicle.max_lateral_accel_m_s2"))?
         .with_max_deceleration(f(max_decel_m_s2))
-        .map_err(steer_err("vehicle.max_decel_m_s2"))?,
+        .map_err(steer_err("vehicle.max_decel_m_s2"))?
+        // The firmware is configured with the actuator's measured lag.
+        .with_steer_lag(f(steer_lag_s))
+        .map_err(steer_err("vehicle.steer_lag_s"))?,
         VehicleSpec::Differential {
             track_width_m,
             max_speed_m_s,
