@@ -692,6 +692,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             reference_point: b,
             dt,
             saturated: self.saturated,
+            path_direction: (sign * reference.point.cos, sign * reference.point.sin),
         };
         let kappa = sign * self.law.curvature(&input);
         let limited = self.limiter.apply(&self.vehicle, kappa, dt);

@@ -113,6 +113,11 @@ pub struct SteeringInput<T> {
     pub dt: T,
     /// `true` if the previous command was cut by a limit (for anti-windup).
     pub saturated: bool,
+    /// Unit tangent of the path at the reference point's foot in the
+    /// direction of travel, in the local plane: `(cos, sin)` of the travel
+    /// heading of the path. Laws that keep state tied to the ground (the
+    /// Frenet law's side-slip integral) use it; `(0, 0)` when unknown.
+    pub path_direction: (T, T),
 }
 
 /// A steering law: a rear-axle curvature command from the tracking state.

@@ -61,6 +61,15 @@
 //! previous command was not saturated and `|d|` is inside a band, and keep
 //! `|k_i int d ds|` under a limit (1/m, the same units as `w`).
 //!
+//! The state is kept in the local plane, not across the path (an addition
+//! of this crate): each step adds `d ds` times the path's left normal `N`
+//! (from [`SteeringInput::path_direction`]) to a vector, and the law uses
+//! that vector's component along the current `N`. Slip on a side slope
+//! pushes downhill whichever way the vehicle drives, so after a headland
+//! turn the stored correction points the right way at once, instead of
+//! having to unwind from the opposite sign over the next pass. Without a
+//! path direction the normal is fixed and the integral is the plain scalar.
+//!
 //! # Control point (an addition of this crate)
 //!
 //! The law steers the rear axle. With the control point `a` ahead of it
@@ -102,7 +111,10 @@ pub struct FrenetFeedback<T> {
     k_i: T,
     integral_limit: T,
     integral_band: T,
-    integral: T,
+    /// `int d N ds` in the local plane, m^2 (see "Integral term").
+    integral: (T, T),
+    /// The left normal of the last call, to read the integral back.
+    normal: (T, T),
 }
 
 impl<T: Real> FrenetFeedback<T> {
@@ -124,7 +136,8 @@ impl<T: Real> FrenetFeedback<T> {
             k_i: T::ZERO,
             integral_limit: T::ZERO,
             integral_band: T::ZERO,
-            integral: T::ZERO,
+            integral: (T::ZERO, T::ZERO),
+            normal: (T::ZERO, T::ONE),
         })
     }
 
@@ -161,7 +174,7 @@ impl<T: Real> FrenetFeedback<T> {
         self.k_i = k_i;
         self.integral_limit = limit;
         self.integral_band = band;
-        self.integral = T::ZERO;
+        self.integral = (T::ZERO, T::ZERO);
         Ok(self)
     }
 
@@ -175,7 +188,8 @@ impl<T: Real> FrenetFeedback<T> {
             k_i: T::ZERO,
             integral_limit: T::ZERO,
             integral_band: T::ZERO,
-            integral: T::ZERO,
+            integral: (T::ZERO, T::ZERO),
+            normal: (T::ZERO, T::ONE),
         }
     }
 
@@ -188,13 +202,27 @@ impl<T: Real> FrenetFeedback<T> {
             k_i: T::ZERO,
             integral_limit: T::ZERO,
             integral_band: T::ZERO,
-            integral: T::ZERO,
+            integral: (T::ZERO, T::ZERO),
+            normal: (T::ZERO, T::ONE),
         }
     }
 
-    /// The integral state `int d ds`, m^2.
+    /// The integral state `int d ds` as seen across the path at the last
+    /// call, m^2 (the stored state is a vector in the local plane).
     pub fn integral(&self) -> T {
-        self.integral
+        self.integral.0 * self.normal.0 + self.integral.1 * self.normal.1
+    }
+
+    /// The path's left normal in the local plane from the input, or a fixed
+    /// one when the input does not give the path direction (the integral
+    /// then works in the path frame, as a plain scalar).
+    fn left_normal(input: &SteeringInput<T>) -> (T, T) {
+        let (tx, ty) = input.path_direction;
+        if tx * tx + ty * ty > T::HALF {
+            (-ty, tx)
+        } else {
+            (T::ZERO, T::ONE)
+        }
     }
 
     /// The law's body curvature for chained-form input `w` (see the module docs).
@@ -229,23 +257,27 @@ impl<T: Real> SteeringLaw<T> for FrenetFeedback<T> {
         let scale = T::ONE - kappa * d;
         let (sn, cs) = theta.sin_cos();
         let z3 = scale * sn / cs;
-        let integral_term = symmetric_clamp(self.k_i * self.integral, self.integral_limit);
+        self.normal = Self::left_normal(input);
+        let integral_term = symmetric_clamp(self.k_i * self.integral(), self.integral_limit);
         let w = -self.k_d * d - self.k_theta * z3 - integral_term;
         let u = self.curvature_for(input, d, kappa, sigma, w);
         // Anti-windup: conditional integration inside the band, clamped state.
         if self.k_i > T::ZERO && !input.saturated && d.abs() < self.integral_band {
             let ds = input.speed.abs() * input.dt * cs / scale;
-            let next = self.integral + d * ds;
+            let (nx, ny) = self.normal;
+            let next = (self.integral.0 + d * ds * nx, self.integral.1 + d * ds * ny);
             let cap = self.integral_limit / self.k_i;
-            if next.is_finite() {
-                self.integral = symmetric_clamp(next, cap);
+            let norm = (next.0 * next.0 + next.1 * next.1).sqrt();
+            if norm.is_finite() {
+                let k = if norm > cap { cap / norm } else { T::ONE };
+                self.integral = (next.0 * k, next.1 * k);
             }
         }
         u
     }
 
     fn reset(&mut self) {
-        self.integral = T::ZERO;
+        self.integral = (T::ZERO, T::ZERO);
     }
 }
 
@@ -306,6 +338,43 @@ mod tests {
         assert_eq!(law.integral(), frozen);
         law.reset();
         assert_eq!(law.integral(), 0.0);
+    }
+
+    #[test]
+    fn integral_is_held_in_the_local_plane() {
+        // Driving east with the vehicle 0.1 m left of the path: the integral
+        // builds up along the left normal, +y. Turned round to drive west,
+        // the same ground correction is read across the new path: the left
+        // normal is now -y, so the integral reads back with the opposite
+        // sign, as a downhill push does on the return pass.
+        let mut law = FrenetFeedback::<f64>::tractor()
+            .with_integral(0.01, 0.05, 0.5)
+            .unwrap();
+        let mut east = input(0.1, 0.0, 0.0);
+        east.path_direction = (1.0, 0.0);
+        for _ in 0..200 {
+            law.curvature(&east);
+        }
+        let built = law.integral();
+        // 200 steps of 0.1 m at d = 0.1 m: int d ds = 2 m^2.
+        assert!((built - 2.0).abs() < 1e-9, "{built}");
+        let mut west = input(0.0, 0.0, 0.0);
+        west.path_direction = (-1.0, 0.0);
+        law.curvature(&west);
+        assert!((law.integral() + built).abs() < 1e-9, "{}", law.integral());
+        // Heading north (up or down the slope, no push across the path).
+        let mut north = input(0.0, 0.0, 0.0);
+        north.path_direction = (0.0, 1.0);
+        law.curvature(&north);
+        assert!(law.integral().abs() < 1e-9);
+        // Without a direction the integral is the plain scalar of the path frame.
+        let mut plain = FrenetFeedback::<f64>::tractor()
+            .with_integral(0.01, 0.05, 0.5)
+            .unwrap();
+        for _ in 0..200 {
+            plain.curvature(&input(0.1, 0.0, 0.0));
+        }
+        assert!((plain.integral() - 2.0).abs() < 1e-9);
     }
 
     #[test]
