@@ -572,7 +572,12 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         // A lookahead the tracker refuses (not finite) keeps the old one.
         let _ = self.tracker.set_lookahead(reach);
         let pose = Pose::new(f.x, f.y, f.heading);
-        let t = self.tracker.update(path, &pose).ok()?;
+        // On a leg, only feet of its driving direction count (cusps).
+        let t = match self.leg {
+            Some(l) => self.tracker.update_driving(path, &pose, l.direction),
+            None => self.tracker.update(path, &pose),
+        }
+        .ok()?;
         if t.status == TrackStatus::Lost {
             return None;
         }

@@ -32,7 +32,7 @@
 use crate::cursor::Cursor;
 use crate::error::TrackError;
 use crate::path::Path;
-use crate::pose::{PathPoint, Pose};
+use crate::pose::{Direction, PathPoint, Pose};
 use crate::project::{nearest_on_segment, Foot};
 use crate::real::{c, Real};
 
@@ -250,7 +250,36 @@ impl<T: Real> Tracker<T> {
         if !pose.is_finite() {
             return Err(TrackError::NonFinite);
         }
-        let foot = self.search_window(path, pose);
+        let foot = self.search_window(path, pose, None);
+        Ok(self.settle(path, pose, foot))
+    }
+
+    /// As [`Tracker::update`], for a vehicle that is driving in `direction`:
+    /// within the window (and in the whole-path search before acquisition),
+    /// foot points on segments driven that way win over nearer ones on
+    /// segments driven the other way, which count only when there are none
+    /// of the right direction.
+    ///
+    /// Around a cusp the legs on either side lie close together, the
+    /// reversing leg often right alongside the one before it; by distance
+    /// alone the foot can slide back along the wrong leg while the vehicle
+    /// reverses, until it is lost.
+    ///
+    /// # Errors
+    /// As [`Tracker::update`].
+    pub fn update_driving<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        direction: Direction,
+    ) -> Result<Tracking<T>, TrackError> {
+        if !self.acquired {
+            return self.acquire_driving(path, pose, Some(direction));
+        }
+        if !pose.is_finite() {
+            return Err(TrackError::NonFinite);
+        }
+        let foot = self.search_window(path, pose, Some(direction));
         Ok(self.settle(path, pose, foot))
     }
 
@@ -265,10 +294,20 @@ impl<T: Real> Tracker<T> {
         path: &Path<T, N>,
         pose: &Pose<T>,
     ) -> Result<Tracking<T>, TrackError> {
+        self.acquire_driving(path, pose, None)
+    }
+
+    /// Acquisition preferring segments driven in `driving`.
+    fn acquire_driving<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        driving: Option<Direction>,
+    ) -> Result<Tracking<T>, TrackError> {
         if !pose.is_finite() {
             return Err(TrackError::NonFinite);
         }
-        let foot = self.search_all(path, pose);
+        let foot = self.search_all(path, pose, driving);
         let result = self.settle(path, pose, foot);
         if result.status != TrackStatus::Lost {
             self.acquired = true;
@@ -302,8 +341,11 @@ impl<T: Real> Tracker<T> {
                 status = TrackStatus::PastEnd;
             }
         }
+        // A vehicle that ran past a cusp (stopping late before reversing) is
+        // beyond both legs: like beyond an end, only its lateral offset
+        // says whether it is off the path.
         let off_path = match status {
-            TrackStatus::OnPath => {
+            TrackStatus::OnPath if !beyond_cusp(path, &foot, along) => {
                 foot.dist2 > self.config.lost_distance * self.config.lost_distance
             }
             _ => lateral.abs() > self.config.lost_distance,
@@ -335,7 +377,12 @@ impl<T: Real> Tracker<T> {
     /// are always searched however short the segments are, and a window
     /// that wraps round a closed path onto the segment it started on is
     /// searched on both sides of the cursor.
-    fn search_window<const N: usize>(&self, path: &Path<T, N>, pose: &Pose<T>) -> Foot<T> {
+    fn search_window<const N: usize>(
+        &self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        driving: Option<Direction>,
+    ) -> Foot<T> {
         let span = self.config.window_back + self.config.window_ahead;
         if path.is_closed() && span >= path.length() {
             return nearest_anywhere(path, pose.x, pose.y);
@@ -353,11 +400,17 @@ impl<T: Real> Tracker<T> {
             offset,
             dist2: T::ZERO,
         };
+        // The best foot overall, and the best on segments of the wanted direction.
         let mut found = false;
+        let mut best_driven: Option<Foot<T>> = None;
         let mut keep = |f: Foot<T>| {
             if !found || f.dist2 < best.dist2 {
                 best = f;
                 found = true;
+            }
+            let driven = driving.is_some_and(|d| path.placed_at(f.segment).direction == d);
+            if driven && best_driven.is_none_or(|b| f.dist2 < b.dist2) {
+                best_driven = Some(f);
             }
         };
         // Forwards: [offset, end of segment], the next segments, up to `to`.
@@ -410,17 +463,42 @@ impl<T: Real> Tracker<T> {
             }
             hi = path.segment_length(seg);
         }
-        best
+        best_driven.unwrap_or(best)
     }
 
     /// Nearest point on the whole path, with the heading weight applied.
-    fn search_all<const N: usize>(&self, path: &Path<T, N>, pose: &Pose<T>) -> Foot<T> {
+    fn search_all<const N: usize>(
+        &self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        driving: Option<Direction>,
+    ) -> Foot<T> {
+        driving
+            .and_then(|d| self.search_all_of(path, pose, Some(d)))
+            .or_else(|| self.search_all_of(path, pose, None))
+            .unwrap_or(Foot {
+                segment: 0,
+                offset: T::ZERO,
+                dist2: T::ZERO,
+            })
+    }
+
+    /// The best-scoring foot on the segments driven in `only` (all if `None`).
+    fn search_all_of<const N: usize>(
+        &self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        only: Option<Direction>,
+    ) -> Option<Foot<T>> {
         let w = self.config.heading_weight;
         let (hs, hc) = pose.heading.sin_cos();
         // Score = distance + w * |heading error|; the bounding circle bounds
         // the distance part from below, which is enough to prune.
         let mut best: Option<(T, Foot<T>)> = None;
         for i in 0..path.len() {
+            if only.is_some_and(|d| path.placed_at(i).direction != d) {
+                continue;
+            }
             let lower = lower_bound(path, i, pose.x, pose.y);
             if let Some((score, _)) = best {
                 if lower > score {
@@ -441,11 +519,7 @@ impl<T: Real> Tracker<T> {
                 best = Some((score, f));
             }
         }
-        best.map(|(_, f)| f).unwrap_or(Foot {
-            segment: 0,
-            offset: T::ZERO,
-            dist2: T::ZERO,
-        })
+        best.map(|(_, f)| f)
     }
 }
 
@@ -472,6 +546,21 @@ fn previous_segment<T: Real, const N: usize>(path: &Path<T, N>, seg: usize) -> O
     } else {
         None
     }
+}
+
+/// `true` when the foot is a cusp (a joint where the driving direction
+/// changes) and the point lies beyond it: ahead of the end of the segment
+/// arriving there, or behind the start of the segment leaving it.
+fn beyond_cusp<T: Real, const N: usize>(path: &Path<T, N>, foot: &Foot<T>, along: T) -> bool {
+    let here = path.placed_at(foot.segment).direction;
+    let other = if along > T::ZERO && foot.offset >= path.segment_length(foot.segment) {
+        next_segment(path, foot.segment)
+    } else if along < T::ZERO && foot.offset <= T::ZERO {
+        previous_segment(path, foot.segment)
+    } else {
+        None
+    };
+    other.is_some_and(|o| path.placed_at(o).direction != here)
 }
 
 /// Nearest point on the whole path by distance alone.

@@ -307,8 +307,8 @@ fn reversing_headland_turns_are_driven_through_their_cusps() {
             "path.allow_reverse=true",
             "vehicle.speed_lag_s=0.3",
             "vehicle.max_accel_m_s2=1.5",
-            "thresholds.forbid_status=[\"fault\"]",
-            "thresholds.max_lost_s=1.0",
+            "thresholds.forbid_status=[\"fault\", \"lost\"]",
+            "thresholds.max_lost_s=0.0",
         ],
     );
     let cusps = (1..s.path.len())
