@@ -45,7 +45,7 @@ pub const MAX_SEGMENTS: usize = 512;
 pub const MAX_VIOLATIONS: usize = 64;
 
 /// How to join the waypoints.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum Mode {
     /// Lines and clothoid-arc-clothoid corners.
     Corners,
@@ -54,124 +54,98 @@ pub enum Mode {
 }
 
 /// Options of `build-path`.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, clap::Parser)]
+#[command(
+    name = "build-path",
+    about = "Waypoints (CSV or GeoJSON) to a checked kappaline path: a Rust const file and an SVG preview"
+)]
 pub struct Options {
-    /// Waypoint file.
+    /// Waypoint file: .csv, .geojson or .json.
+    #[arg(long)]
     pub input: PathBuf,
     /// Rust source to write.
+    #[arg(long = "out-rs")]
     pub out_rs: PathBuf,
     /// SVG preview to write, if any.
+    #[arg(long = "out-svg")]
     pub out_svg: Option<PathBuf>,
-    /// Corners or spline.
+    /// Corners (lines and clothoid-arc-clothoid corners) or a G1 clothoid spline.
+    #[arg(long, value_enum, default_value_t = Mode::Corners)]
     pub mode: Mode,
     /// Corner radius, metres.
+    #[arg(long, default_value_t = 6.0, value_parser = positive, allow_negative_numbers = true)]
     pub radius: f64,
     /// Clothoid sharpness for corners and limit for the check, 1/m^2.
+    #[arg(long = "max-sharpness", value_parser = positive, allow_negative_numbers = true)]
     pub max_sharpness: Option<f64>,
     /// Curvature limit for the check, 1/m (default `1 / radius`).
+    #[arg(long = "max-curvature", value_parser = positive, allow_negative_numbers = true)]
     pub max_curvature: Option<f64>,
-    /// Curvature-rate limit, 1/m/s (with `speed`, gives the sharpness limit).
+    /// Curvature-rate limit, 1/m/s (with `--speed`, gives the sharpness limit).
+    #[arg(long = "max-curvature-rate", value_parser = positive, requires = "speed", allow_negative_numbers = true)]
     pub max_curvature_rate: Option<f64>,
-    /// Planned speed, m/s.
+    /// Planned speed, m/s (with `--max-curvature-rate`).
+    #[arg(long, value_parser = positive, requires = "max_curvature_rate", allow_negative_numbers = true)]
     pub speed: Option<f64>,
-    /// Geodetic origin (degrees, degrees, metres).
+    /// Geodetic origin of the local frame: LAT,LON[,HEIGHT] (degrees, degrees, metres).
+    #[arg(long, value_parser = parse_origin)]
     pub origin: Option<(f64, f64, f64)>,
-    /// Prefix of the generated constants.
+    /// Prefix of the generated constants (an identifier; upper-cased).
+    #[arg(long, default_value = "PATH", value_parser = identifier)]
     pub name: String,
-    /// Fail on a limit violation.
+    /// Fail on a limit violation (the files are still written).
+    #[arg(long)]
     pub strict: bool,
 }
 
-const USAGE: &str = "usage: build-path --input FILE --out-rs FILE [--out-svg FILE] \
-[--mode corners|spline] [--radius M] [--max-sharpness S] [--max-curvature K] \
-[--max-curvature-rate R --speed V] [--origin LAT,LON[,HEIGHT]] [--name IDENT] [--strict]";
-
 /// Parses the arguments after the verb (a leading `build-path` is skipped).
+///
+/// # Errors
+/// A usage error naming the option at fault (clap's message).
 pub fn parse_args(args: &[String]) -> Result<Options> {
-    let mut it = args.iter().peekable();
-    if it.peek().is_some_and(|a| a.as_str() == "build-path") {
-        it.next();
-    }
-    let mut input = None;
-    let mut out_rs = None;
-    let mut o = Options {
-        input: PathBuf::new(),
-        out_rs: PathBuf::new(),
-        out_svg: None,
-        mode: Mode::Corners,
-        radius: 6.0,
-        max_sharpness: None,
-        max_curvature: None,
-        max_curvature_rate: None,
-        speed: None,
-        origin: None,
-        name: "PATH".into(),
-        strict: false,
+    use clap::Parser;
+    let rest = match args.first() {
+        Some(a) if a == "build-path" => args.get(1..).unwrap_or_default(),
+        _ => args,
     };
-    while let Some(flag) = it.next() {
-        let mut value = || {
-            it.next()
-                .cloned()
-                .ok_or_else(|| anyhow!("{flag} needs a value\n{USAGE}"))
-        };
-        let number = |v: String, flag: &str| -> Result<f64> {
-            let x: f64 = v
-                .parse()
-                .map_err(|_| anyhow!("{flag}: cannot read {v:?} as a number"))?;
-            if !(x.is_finite() && x > 0.0) {
-                bail!("{flag}: {v} must be positive and finite");
-            }
-            Ok(x)
-        };
-        match flag.as_str() {
-            "--input" => input = Some(PathBuf::from(value()?)),
-            "--out-rs" => out_rs = Some(PathBuf::from(value()?)),
-            "--out-svg" => o.out_svg = Some(PathBuf::from(value()?)),
-            "--mode" => {
-                o.mode = match value()?.as_str() {
-                    "corners" => Mode::Corners,
-                    "spline" => Mode::Spline,
-                    other => bail!("--mode: {other:?} is neither corners nor spline"),
-                }
-            }
-            "--radius" => o.radius = number(value()?, flag)?,
-            "--max-sharpness" => o.max_sharpness = Some(number(value()?, flag)?),
-            "--max-curvature" => o.max_curvature = Some(number(value()?, flag)?),
-            "--max-curvature-rate" => o.max_curvature_rate = Some(number(value()?, flag)?),
-            "--speed" => o.speed = Some(number(value()?, flag)?),
-            "--origin" => o.origin = Some(parse_origin(&value()?)?),
-            "--name" => {
-                let n = value()?;
-                let ok = n.chars().next().is_some_and(|c| c.is_ascii_alphabetic())
-                    && n.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
-                if !ok {
-                    bail!("--name: {n:?} is not an identifier");
-                }
-                o.name = n.to_ascii_uppercase();
-            }
-            "--strict" => o.strict = true,
-            "--help" | "-h" => bail!("{USAGE}"),
-            other => bail!("unknown option {other:?}\n{USAGE}"),
-        }
-    }
-    o.input = input.ok_or_else(|| anyhow!("--input is required\n{USAGE}"))?;
-    o.out_rs = out_rs.ok_or_else(|| anyhow!("--out-rs is required\n{USAGE}"))?;
-    if o.max_curvature_rate.is_some() != o.speed.is_some() {
-        bail!("--max-curvature-rate and --speed go together");
-    }
-    Ok(o)
+    let argv = std::iter::once("build-path").chain(rest.iter().map(String::as_str));
+    Options::try_parse_from(argv).map_err(|e| {
+        let text = e.render().to_string();
+        anyhow!("{}", text.trim_start_matches("error: ").trim_end())
+    })
 }
 
-fn parse_origin(v: &str) -> Result<(f64, f64, f64)> {
+fn positive(v: &str) -> std::result::Result<f64, String> {
+    let x: f64 = v
+        .parse()
+        .map_err(|_| format!("cannot read {v:?} as a number"))?;
+    if x.is_finite() && x > 0.0 {
+        Ok(x)
+    } else {
+        Err(format!("{v} must be positive and finite"))
+    }
+}
+
+fn identifier(n: &str) -> std::result::Result<String, String> {
+    let ok = n.chars().next().is_some_and(|c| c.is_ascii_alphabetic())
+        && n.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
+    if ok {
+        Ok(n.to_ascii_uppercase())
+    } else {
+        Err(format!("{n:?} is not an identifier"))
+    }
+}
+
+fn parse_origin(v: &str) -> std::result::Result<(f64, f64, f64), String> {
     let parts: Vec<f64> = v
         .split(',')
         .map(|p| p.trim().parse::<f64>())
-        .collect::<Result<_, _>>()
-        .map_err(|_| anyhow!("--origin: cannot read {v:?} as LAT,LON[,HEIGHT]"))?;
+        .collect::<std::result::Result<_, _>>()
+        .map_err(|_| format!("cannot read {v:?} as LAT,LON[,HEIGHT]"))?;
     match parts.as_slice() {
         [lat, lon] => Ok((*lat, *lon, 0.0)),
         [lat, lon, h] => Ok((*lat, *lon, *h)),
-        _ => bail!("--origin: {v:?} is not LAT,LON[,HEIGHT]"),
+        _ => Err(format!("{v:?} is not LAT,LON[,HEIGHT]")),
     }
 }
 
@@ -287,7 +261,8 @@ pub fn reload_f32(path: &Path<f64, MAX_SEGMENTS>) -> Result<Path<f32, MAX_SEGMEN
 /// Runs `build-path` with the arguments after the verb.
 pub fn run(args: &[String]) -> Result<()> {
     if args.iter().any(|a| a == "--help" || a == "-h") {
-        println!("{USAGE}");
+        use clap::CommandFactory;
+        println!("{}", Options::command().render_help());
         return Ok(());
     }
     let o = parse_args(args)?;
