@@ -79,6 +79,10 @@ use crate::supervisor::{FixMonitor, Mode, SupervisorConfig, Verdict};
 use crate::tracker::{TrackStatus, Tracker, TrackerConfig, Tracking};
 use crate::vehicle::Vehicle;
 
+/// Consecutive cycles with `now` going backwards after which the guidance
+/// takes the new time base and starts again in `Acquiring`.
+pub const FAULT_CYCLES_TO_RESTART: u32 = 3;
+
 /// Most path evaluations of one projection onto a leg.
 pub const PROJECTION_STEPS: usize = 4;
 
@@ -374,6 +378,8 @@ pub struct Guidance<T: Real, L> {
     speed_limit: T,
     saturated: bool,
     last_now: Option<T>,
+    /// Consecutive cycles with `now` going backwards.
+    backwards: u32,
 }
 
 /// Where the control point is, found during one cycle.
@@ -411,6 +417,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             speed_limit: T::ZERO,
             saturated: false,
             last_now: None,
+            backwards: 0,
         })
     }
 
@@ -471,9 +478,21 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     fn cycle<const N: usize>(&mut self, path: &Path<T, N>, input: &GuidanceInput<T>) -> Command<T> {
         let (now, dt) = (input.now, input.dt);
         let time_ok = now.is_finite() && dt.is_finite() && dt > T::ZERO;
-        if !time_ok || self.last_now.is_some_and(|t| now < t) {
+        if !time_ok {
             return self.fault();
         }
+        if self.last_now.is_some_and(|t| now < t) {
+            // Time going backwards: a fault for this cycle. If it keeps
+            // doing so, the last `now` was the glitch (one bogus time far in
+            // the future would otherwise latch the fault for ever): take
+            // the new time base and start again.
+            self.backwards = self.backwards.saturating_add(1);
+            if self.backwards < FAULT_CYCLES_TO_RESTART {
+                return self.fault();
+            }
+            self.reset();
+        }
+        self.backwards = 0;
         self.last_now = Some(now);
         let verdict = self.monitor.check(input.fix.as_ref(), now, &self.config);
         match (self.mode, verdict) {

@@ -124,7 +124,10 @@ pub use passes::{
     offset_curvature, reversed_path, Pass, PassError, PassPoint, PassTracking, Passes, Side,
 };
 
-pub use guidance::{Command, Fix, Guidance, GuidanceInput, GuidanceStatus, PROJECTION_STEPS};
+pub use guidance::{
+    Command, Fix, Guidance, GuidanceInput, GuidanceStatus, FAULT_CYCLES_TO_RESTART,
+    PROJECTION_STEPS,
+};
 pub use limits::{Limited, SteerLimiter};
 pub use speed::{local_speed_limit, speed_cap, SPEED_SCAN_SEGMENTS};
 pub use steer::{FrenetFeedback, PurePursuit, Stanley, SteerError, SteeringInput, SteeringLaw};

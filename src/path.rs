@@ -126,6 +126,16 @@ impl Anchor64 {
         }
     }
 
+    /// The same anchor with its tangent turned by pi if `cusp` (the start
+    /// of a segment driven the other way).
+    fn turned(&self, cusp: bool) -> Self {
+        let mut a = *self;
+        if cusp {
+            a.theta += core::f64::consts::PI;
+        }
+        a
+    }
+
     /// Gaps (position metres, heading radians wrapped) to another anchor.
     fn gaps(&self, other: &Self) -> (f64, f64) {
         let dx = other.x - self.x;
@@ -330,6 +340,9 @@ impl<T: Real, const N: usize> Path<T, N> {
     ///
     /// The stored anchors are kept (not the recomputed ones), so tiny gaps
     /// within the tolerance stay tiny instead of adding up along the path.
+    /// Where the driving direction changes (a cusp), the start heading is
+    /// compared with the previous end heading turned by pi, as
+    /// [`PathBuilder::try_push_cusp`] builds it.
     ///
     /// # Errors
     /// [`PathError::Empty`], [`PathError::CapacityExceeded`],
@@ -350,6 +363,7 @@ impl<T: Real, const N: usize> Path<T, N> {
         }
         let mut placed = Vec::new();
         let mut prev_end: Option<Anchor64> = None;
+        let mut prev_direction = None;
         let mut station = 0.0f64;
         let mut first = None;
         for (index, part) in parts.iter().enumerate() {
@@ -363,8 +377,12 @@ impl<T: Real, const N: usize> Path<T, N> {
             ));
             a.station = station;
             if let Some(e) = prev_end {
-                check_joint(&e, &a, tolerance, index)?;
+                // At a cusp the path tangent turns by pi (see
+                // `PathBuilder::try_push_cusp`): compare with that.
+                let cusp = prev_direction.is_some_and(|d| d != part.segment.direction());
+                check_joint(&e.turned(cusp), &a, tolerance, index)?;
             }
+            prev_direction = Some(part.segment.direction());
             let seg64 = part.segment.cast::<f64>();
             let end = a.after(&seg64);
             check_after::<T>(&a, &end, index)?;
@@ -379,7 +397,11 @@ impl<T: Real, const N: usize> Path<T, N> {
             return Err(PathError::Empty);
         };
         if closed {
-            check_joint(&end, &first, tolerance, 0)?;
+            let cusp = parts
+                .first()
+                .zip(parts.last())
+                .is_some_and(|(f, l)| f.segment.direction() != l.segment.direction());
+            check_joint(&end.turned(cusp), &first, tolerance, 0)?;
         }
         Ok(Self {
             placed,

@@ -10,7 +10,7 @@
 //! | `Degraded` | the fix is missing, stale, non-finite or jumped | hold the last curvature and speed limit |
 //! | `Lost` | `Degraded` for longer than `hold_time`; cross-track or heading error beyond its limit; the tracker lost the path | straighten, stop request |
 //! | `EndOfPath` | within `end_tolerance` of the end of an open path | hold the last curvature, stop request |
-//! | `Fault` | `now` or `dt` not finite, `dt <= 0`, or time going backwards (this cycle only) | hold the last curvature, stop request |
+//! | `Fault` | `now` or `dt` not finite, `dt <= 0`, or time going backwards (this cycle only; after `FAULT_CYCLES_TO_RESTART` such cycles in a row the new time base is taken and the guidance starts again in `Acquiring`) | hold the last curvature, stop request |
 //!
 //! "Straighten" ramps the curvature to zero at the steering-rate limit;
 //! "stop request" is `speed_limit = 0`. Every command passes the limiter,
@@ -38,8 +38,9 @@
 //!   until [`crate::Guidance::reset`].
 //!
 //! A fix is *usable* if every field is finite, it is not older than
-//! `max_fix_age` at `now`, its time does not go backwards, and it is
-//! consistent with the last accepted fix (no jump).
+//! `max_fix_age` at `now` (nor stamped more than `max_fix_age` after `now`),
+//! its time does not go backwards, and it is consistent with the last
+//! accepted fix (no jump).
 //!
 //! Caution: this supervisor is a guidance function, not a certified safety
 //! function; keep an independent emergency stop and the machine's own
@@ -231,8 +232,12 @@ impl<T: Real> FixMonitor<T> {
         let age = now - f.time;
         let backwards = self.raw.is_some_and(|r| f.time < r.time);
         let fresh = age <= cfg.max_fix_age;
-        if !finite || !fresh || backwards {
-            if !finite || backwards {
+        // A fix stamped later than `now` by more than the allowed age is a
+        // clock fault (a receiver time glitch). Kept as the last raw fix it
+        // would make every later, genuine fix look as if it went back in time.
+        let from_future = age < -cfg.max_fix_age;
+        if !finite || !fresh || backwards || from_future {
+            if !finite || backwards || from_future {
                 self.agreeing = 0;
             }
             return Verdict::Unusable;

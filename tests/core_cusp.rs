@@ -68,3 +68,30 @@ fn overrunning_a_cusp_is_not_a_loss() {
         .unwrap();
     assert_eq!(r.status, TrackStatus::Lost);
 }
+
+#[test]
+fn a_stored_path_with_a_cusp_loads_back() {
+    // Store each segment with its anchor, as a path file does, and load it
+    // through the checking loader: the pi turn of the tangent at the cusp
+    // is what `try_push_cusp` builds, not a heading gap.
+    let path = there_and_back();
+    let parts: Vec<kappaline::AnchoredSegment<f64>> = (0..path.len())
+        .map(|i| kappaline::AnchoredSegment {
+            segment: path.segment(i).unwrap(),
+            start: path.anchor(i).unwrap(),
+        })
+        .collect();
+    let back =
+        kappaline::Path::<f64, 4>::from_anchored(&parts, kappaline::Continuity::DEFAULT, false)
+            .unwrap();
+    assert!((back.length() - 40.0).abs() < 1e-12);
+    let end = back.end_pose();
+    assert!(end.x.abs() < 1e-12 && end.y.abs() < 1e-12, "{end:?}");
+    // A real heading gap at a cusp is still refused.
+    let mut bad = parts.clone();
+    bad[1].start.heading += 0.1;
+    assert_eq!(
+        kappaline::Path::<f64, 4>::from_anchored(&bad, kappaline::Continuity::DEFAULT, false).err(),
+        Some(kappaline::PathError::HeadingGap { index: 1 })
+    );
+}

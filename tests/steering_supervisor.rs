@@ -410,6 +410,58 @@ fn bad_time_is_a_fault_for_that_cycle() {
     assert_eq!(d.at(x, 0.5, 0.0).status, GuidanceStatus::Following);
 }
 
+#[test]
+fn a_fix_stamped_in_the_future_is_refused_and_forgotten() {
+    // A receiver time glitch: one fix stamped 1e6 s ahead. It is not usable
+    // (Degraded), and it must not poison the fix history: the next genuine
+    // fixes are followed again at once (contract: src/supervisor.rs, "A fix
+    // is usable if ...").
+    let mut d = Drive::new();
+    let mut x = d.follow(10.0, 0.2, 10);
+    d.now += DT;
+    let glitch = Fix {
+        x,
+        y: 0.2,
+        heading: 0.0,
+        speed: 2.0,
+        time: 1e6,
+    };
+    assert_eq!(
+        d.raw(Some(glitch), d.now, DT).status,
+        GuidanceStatus::Degraded
+    );
+    x += 2.0 * DT;
+    d.follow(x, 0.2, 5);
+}
+
+#[test]
+fn one_bogus_now_does_not_latch_the_fault() {
+    // `now` jumps to 1e6 s for one cycle and comes back: the cycles after it
+    // go back in time (Fault); after FAULT_CYCLES_TO_RESTART of them the new
+    // time base is taken, the guidance starts again and follows.
+    let mut d = Drive::new();
+    let mut x = d.follow(10.0, 0.2, 10);
+    let bogus = d.raw(None, 1e6, DT);
+    assert_ne!(bogus.status, GuidanceStatus::Following);
+    let mut statuses = Vec::new();
+    for _ in 0..6 {
+        statuses.push(d.at(x, 0.2, 0.0).status);
+        x += 2.0 * DT;
+    }
+    let faults = kappaline::FAULT_CYCLES_TO_RESTART as usize - 1;
+    assert!(
+        statuses[..faults]
+            .iter()
+            .all(|s| *s == GuidanceStatus::Fault),
+        "{statuses:?}"
+    );
+    assert_eq!(
+        *statuses.last().unwrap(),
+        GuidanceStatus::Following,
+        "{statuses:?}"
+    );
+}
+
 fn value() -> impl Strategy<Value = f64> {
     prop_oneof![
         4 => -3.0..3.0f64,

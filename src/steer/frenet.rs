@@ -249,9 +249,15 @@ impl<T: Real> SteeringLaw<T> for FrenetFeedback<T> {
         let kappa = input.curvature / parallel;
         let sigma = input.sharpness / (parallel * parallel);
         let d = input.cross_track - shift;
-        if theta.abs() >= c(THETA_DOMAIN) || T::ONE - kappa * d <= c(MIN_FRAME_SCALE) {
-            // Outside the chained form's domain: turn towards the path.
+        if theta.abs() >= c(THETA_DOMAIN) {
+            // Pointing across the path: turn the heading back towards it.
             let toward = if theta > T::ZERO { -T::ONE } else { T::ONE };
+            return toward * c(FULL_TURN);
+        }
+        if T::ONE - kappa * d <= c(MIN_FRAME_SCALE) {
+            // Near the path's centre of curvature (inside a tight arc):
+            // turn away from that side, back out towards the path.
+            let toward = if d > T::ZERO { -T::ONE } else { T::ONE };
             return toward * c(FULL_TURN);
         }
         let scale = T::ONE - kappa * d;
@@ -375,6 +381,18 @@ mod tests {
             plain.curvature(&input(0.1, 0.0, 0.0));
         }
         assert!((plain.integral() - 2.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn near_the_centre_of_a_tight_arc_turns_out_towards_the_path() {
+        // Inside a left arc of 0.8 m radius (kappa = 1.25), 0.7 m left of
+        // the path, heading along it: 1 - kappa d = 0.125 is outside the
+        // chained form's domain. The way back is to the right (negative).
+        let mut law = FrenetFeedback::<f64>::small_robot();
+        assert!(law.curvature(&input(0.7, 0.0, 1.25)) < -1.0);
+        assert!(law.curvature(&input(0.7, -0.1, 1.25)) < -1.0);
+        // The mirror case inside a right arc turns left.
+        assert!(law.curvature(&input(-0.7, 0.0, -1.25)) > 1.0);
     }
 
     #[test]
