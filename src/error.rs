@@ -34,7 +34,8 @@ pub enum PathError {
         /// Segment whose start heading is off.
         index: usize,
     },
-    /// A tolerance or other parameter is negative or out of its range.
+    /// A tolerance or other parameter is negative or out of its range, or a
+    /// position or station beyond [`crate::MAX_COORDINATE`].
     OutOfRange,
     /// A station outside the path (open paths only).
     StationOutOfRange,

@@ -101,7 +101,7 @@ mod vehicle;
 pub use cursor::{Cursor, Travel};
 pub use error::{PathError, TrackError};
 pub use fresnel::{fresnel, generalized_fresnel};
-pub use path::{AnchoredSegment, Continuity, Path, PathBuilder};
+pub use path::{AnchoredSegment, Continuity, Path, PathBuilder, MAX_COORDINATE};
 pub use pose::{Direction, PathPoint, Pose};
 pub use real::Real;
 pub use segment::{Segment, SegmentKind};

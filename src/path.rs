@@ -178,6 +178,9 @@ impl<T: Real, const N: usize> PathBuilder<T, N> {
         if !start.is_finite() {
             return Err(PathError::NonFinite { index: usize::MAX });
         }
+        if !within_plane(start.x.to_f64()) || !within_plane(start.y.to_f64()) {
+            return Err(PathError::OutOfRange);
+        }
         let a = Anchor64::from_pose(Pose::new(
             start.x.to_f64(),
             start.y.to_f64(),
@@ -369,6 +372,9 @@ impl<T: Real, const N: usize> Path<T, N> {
         for (index, part) in parts.iter().enumerate() {
             if !part.start.is_finite() {
                 return Err(PathError::NonFinite { index });
+            }
+            if !within_plane(part.start.x.to_f64()) || !within_plane(part.start.y.to_f64()) {
+                return Err(PathError::OutOfRange);
             }
             let mut a = Anchor64::from_pose(Pose::new(
                 part.start.x.to_f64(),
@@ -592,10 +598,25 @@ fn check_after<T: Real>(
     if !(in_t(after.x) && in_t(after.y) && in_t(after.station) && after.theta.is_finite()) {
         return Err(PathError::NonFinite { index });
     }
+    if !(within_plane(after.x) && within_plane(after.y) && within_plane(after.station)) {
+        return Err(PathError::OutOfRange);
+    }
     if T::from_f64(after.station) <= T::from_f64(before.station) {
         return Err(PathError::NonPositiveLength { index });
     }
     Ok(())
+}
+
+/// Largest coordinate or station a path may have, metres (10,000 km: room
+/// for any local plane, and UTM-sized numbers in `f64`). Keeping every
+/// position below it keeps every squared distance the tracker forms finite,
+/// in `f32` too.
+pub const MAX_COORDINATE: f64 = 1.0e7;
+
+/// `|v| <= MAX_COORDINATE`.
+#[inline]
+pub(crate) fn within_plane(v: f64) -> bool {
+    libm::fabs(v) <= MAX_COORDINATE
 }
 
 fn check_joint(

@@ -86,20 +86,42 @@ fn builder() {
         full.clone().push(Segment::line(1.0).unwrap()).err(),
         Some(PathError::CapacityExceeded)
     );
-    // An end that overflows: start near f64::MAX.
-    let mut far = PathBuilder::<f64, 4>::new(Pose::new(f64::MAX, 0.0, 0.0)).unwrap();
+    // Positions beyond MAX_COORDINATE (1e7 m) are refused: a start there...
+    assert_eq!(
+        PathBuilder::<f64, 4>::new(Pose::new(f64::MAX, 0.0, 0.0)).err(),
+        Some(PathError::OutOfRange)
+    );
+    assert_eq!(
+        PathBuilder::<f32, 4>::new(Pose::new(0.0, -3.0e38, 0.0)).err(),
+        Some(PathError::OutOfRange)
+    );
+    // ... and an end there, leaving the builder as it was.
+    let mut far = PathBuilder::<f64, 4>::new(Pose::new(9.0e6, 0.0, 0.0)).unwrap();
     let before = far.clone();
     assert_eq!(
-        far.try_push(Segment::line(1e300).unwrap()),
-        Err(PathError::NonFinite { index: 0 })
+        far.try_push(Segment::line(2.0e6).unwrap()),
+        Err(PathError::OutOfRange)
     );
     assert_eq!(far, before);
-    // f32: the end lies beyond f32's range although it is finite in f64.
-    let mut far32 = PathBuilder::<f32, 4>::new(Pose::new(3.0e38, 0.0, 0.0)).unwrap();
+    assert_eq!(
+        far.try_push(Segment::line(1e300).unwrap()),
+        Err(PathError::OutOfRange)
+    );
+    assert_eq!(far, before);
+    // An end heading that overflows f64 (kappa L = 1e310) is non-finite.
+    let mut huge = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
+    let before = huge.clone();
+    assert_eq!(
+        huge.try_push(Segment::arc(1e300, 1e10).unwrap()),
+        Err(PathError::NonFinite { index: 0 })
+    );
+    assert_eq!(huge, before);
+    // f32: an end beyond f32's range although it is finite in f64.
+    let mut far32 = PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
     let before = far32.clone();
     assert_eq!(
-        far32.try_push(Segment::line(1e38).unwrap()),
-        Err(PathError::NonFinite { index: 0 })
+        far32.try_push(Segment::line(3.0e38).unwrap()),
+        Err(PathError::OutOfRange)
     );
     assert_eq!(far32, before);
     // f32: a segment shorter than half the station's resolution (50 um at
