@@ -20,14 +20,17 @@
 //! # Tracking on a pass
 //!
 //! Project the control point onto the **reference** with the core
-//! [`crate::Tracker`] and call [`Pass::track`]: the cross-track to pass `n`
-//! is the reference cross-track minus `n * swath`; heading error is
-//! unchanged (offset curves share their normals); curvatures become offset
-//! curvatures. The tracker's window keeps it on its station even though the
-//! neighbouring passes lie one swath to the side.
+//! [`crate::Tracker`], telling it the pass offset ([`Pass::update`], or
+//! [`crate::Tracker::update_offset`] and then [`Pass::track`]): the
+//! cross-track to pass `n` is the reference cross-track minus `n * swath`;
+//! heading error is unchanged (offset curves share their normals);
+//! curvatures become offset curvatures. The tracker judges loss by the
+//! distance to the pass, not to the reference (a pass 12 m beside the
+//! reference is not "lost"), and its window keeps it on its station even
+//! though the neighbouring passes lie one swath to the side.
 //!
 //! ```
-//! use kappaline::{PathBuilder, Passes, Pose, Segment, Side, Tracker, TrackerConfig};
+//! use kappaline::{PathBuilder, Passes, Pose, Segment, Side, TrackStatus, Tracker, TrackerConfig};
 //! # fn main() -> Result<(), Box<dyn core::error::Error>> {
 //! let reference = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))?
 //!     .push(Segment::line(200.0)?)?
@@ -36,8 +39,9 @@
 //! let pass = passes.pass(passes.next(0, Side::Left, 1)?); // skip one: pass 2
 //! assert_eq!(pass.index, 2);
 //! let mut tracker = Tracker::new(TrackerConfig::field())?;
-//! let t = tracker.update(&reference, &Pose::new(50.0, 12.1, 0.0))?;
-//! let on_pass = pass.track(&t)?;
+//! let (t, on_pass) = pass.update(&mut tracker, &reference, &Pose::new(50.0, 12.1, 0.0))?;
+//! assert_eq!(t.status, TrackStatus::OnPath); // on pass 2, 12 m from the reference
+//! assert!(tracker.is_acquired());
 //! assert!((on_pass.cross_track - 0.1).abs() < 1e-9); // 10 cm left of pass 2
 //! # Ok(()) }
 //! ```
@@ -45,7 +49,7 @@
 use crate::path::{Path, PathBuilder};
 use crate::pose::{PathPoint, Pose};
 use crate::real::Real;
-use crate::tracker::Tracking;
+use crate::tracker::{Tracker, Tracking};
 use crate::{error::PathError, segment::Segment};
 
 /// Why a pass cannot be formed or driven.
@@ -316,7 +320,8 @@ impl<T: Real> Pass<T> {
     }
 
     /// Tracking errors relative to this pass from a tracking state on the
-    /// reference (see the module documentation).
+    /// reference, as [`Tracker::update_offset`] returns it for this pass's
+    /// offset (see the module documentation and [`Pass::update`]).
     ///
     /// # Errors
     /// [`PassError::Cusp`] where the foot point or the lookahead point lies
@@ -339,6 +344,28 @@ impl<T: Real> Pass<T> {
             curvature: here(&t.foot)?,
             curvature_ahead: here(&t.ahead)?,
         })
+    }
+
+    /// One tracking update on this pass: projects `pose` onto `reference`
+    /// with [`Tracker::update_offset`] at this pass's offset (so loss is
+    /// judged by the distance to the pass) and turns the result into errors
+    /// relative to the pass ([`Pass::track`]). Returns both: the reference
+    /// tracking carries the station and [`crate::TrackStatus`].
+    ///
+    /// # Errors
+    /// [`PassError::BadInput`] if the pose is not finite (the tracker is
+    /// unchanged); [`PassError::Cusp`] as [`Pass::track`] (the tracker has
+    /// moved).
+    pub fn update<const N: usize>(
+        &self,
+        tracker: &mut Tracker<T>,
+        reference: &Path<T, N>,
+        pose: &Pose<T>,
+    ) -> Result<(Tracking<T>, PassTracking<T>), PassError<T>> {
+        let t = tracker
+            .update_offset(reference, pose, self.offset)
+            .map_err(|_| PassError::BadInput)?;
+        Ok((t, self.track(&t)?))
     }
 
     /// Where the pass starts: position and heading at reference station 0.
@@ -513,9 +540,83 @@ mod tests {
         let pass = Passes::new(3.0).unwrap().pass(2);
         let q = pass.point(&r, 50.0).unwrap();
         let mut t = Tracker::new(TrackerConfig::field()).unwrap();
-        let tr = t.update(&r, &q.pose()).unwrap();
-        let on = pass.track(&tr).unwrap();
+        let (tr, on) = pass.update(&mut t, &r, &q.pose()).unwrap();
+        // 6 m from the reference, but on the pass: not lost.
+        assert_eq!(tr.status, crate::TrackStatus::OnPath);
+        assert!(t.is_acquired());
+        assert!((tr.station - 50.0).abs() < 1e-9);
         assert!(on.cross_track.abs() < 1e-9);
+        // Offset-curve curvature kappa / (1 - kappa d) (parallel curves, see
+        // the module documentation).
         assert!((on.curvature - 0.05 / (1.0 - 0.05 * 6.0)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn driving_along_a_pass_nine_metres_out_stays_on_it() {
+        // Pass 3 of a 3 m swath: 9 m left of the reference, inside its
+        // 20 m radius (kappa d = 0.45), 0.2 m left of the pass.
+        let r = curved();
+        let pass = Passes::new(3.0).unwrap().pass(3);
+        pass.check(&r).unwrap();
+        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut last = f64::NEG_INFINITY;
+        let steps = 350; // 0.2 m of reference station per step
+        for i in 0..=steps {
+            let s = 0.1 + (r.length() - 0.2) * f64::from(i) / f64::from(steps);
+            let q = pass.point(&r, s).unwrap();
+            let pose = Pose::new(q.x - 0.2 * q.sin, q.y + 0.2 * q.cos, q.heading());
+            let (tr, on) = pass.update(&mut t, &r, &pose).unwrap();
+            assert_eq!(tr.status, crate::TrackStatus::OnPath, "step {i}");
+            // Acquired on the first step and never lost: no whole-path search after it.
+            assert!(t.is_acquired(), "step {i}");
+            assert!(tr.station > last, "station went back at step {i}");
+            assert!(
+                (tr.station - s).abs() < 1e-9,
+                "step {i}: {} vs {s}",
+                tr.station
+            );
+            assert!((on.cross_track - 0.2).abs() < 1e-9, "step {i}");
+            last = tr.station;
+        }
+    }
+
+    #[test]
+    fn offset_update_judges_loss_from_the_pass() {
+        let r = curved();
+        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        // 9 m left of the reference at station 10 (on its straight line).
+        let on_pass = Pose::new(
+            10.0 * 0.2f64.cos() - 9.0 * 0.2f64.sin(),
+            10.0 * 0.2f64.sin() + 9.0 * 0.2f64.cos(),
+            0.2,
+        );
+        let tr = t.update_offset(&r, &on_pass, 9.0).unwrap();
+        assert_eq!(tr.status, crate::TrackStatus::OnPath);
+        assert!((tr.cross_track - 9.0).abs() < 1e-9);
+        // The same point is lost from a pass 3 m out (6 m away > 2 m)...
+        let mut u = Tracker::new(TrackerConfig::field()).unwrap();
+        assert_eq!(
+            u.update_offset(&r, &on_pass, 3.0).unwrap().status,
+            crate::TrackStatus::Lost
+        );
+        assert!(!u.is_acquired());
+        // ...and from the reference itself, as `update` judges it.
+        assert_eq!(
+            u.update(&r, &on_pass).unwrap().status,
+            crate::TrackStatus::Lost
+        );
+        // Beyond the start, the lateral offset from the pass decides.
+        let before = Pose::new(
+            -1.0 * 0.2f64.cos() - 9.5 * 0.2f64.sin(),
+            -1.0 * 0.2f64.sin() + 9.5 * 0.2f64.cos(),
+            0.2,
+        );
+        let mut v = Tracker::new(TrackerConfig::field()).unwrap();
+        let tb = v.update_offset(&r, &before, 9.0).unwrap();
+        assert_eq!(tb.status, crate::TrackStatus::BeforeStart);
+        assert_eq!(
+            t.update_offset(&r, &before, f64::NAN),
+            Err(crate::TrackError::NonFinite)
+        );
     }
 }
