@@ -414,6 +414,10 @@ fn turned_to<T: Real, const N: usize>(reference: &Path<T, N>, p: &PathPoint<T>) 
 /// pass `-n` of the reversed path: use it for the passes driven against the
 /// reference direction in a back-and-forth field pattern.
 ///
+/// Each segment keeps its driving direction, so a cusp of the reference
+/// (a joint where the direction changes) is a cusp of the reversed path at
+/// the same place: the tangent of the reversed legs turns by pi there too.
+///
 /// Cost: O(N), once per field, not per control cycle.
 ///
 /// # Errors
@@ -424,11 +428,17 @@ pub fn reversed_path<T: Real, const N: usize>(
     let end = reference.end_pose();
     let mut b =
         PathBuilder::<T, N>::new(Pose::new(end.x, end.y, (end.heading + T::PI).wrap_angle()))?;
+    let mut after: Option<Segment<T>> = None;
     for i in (0..reference.len()).rev() {
         if let Some(seg) = reference.segment(i) {
             let r = Segment::clothoid(seg.length(), -seg.kappa_end(), seg.sigma())?
                 .with_direction(seg.direction());
-            b.try_push(r)?;
+            if after.is_some_and(|a| a.direction() != seg.direction()) {
+                b.try_push_cusp(r)?;
+            } else {
+                b.try_push(r)?;
+            }
+            after = Some(seg);
         }
     }
     b.build()
@@ -532,6 +542,64 @@ mod tests {
         let q1 = p.pass(1).point(&r, 37.0).unwrap();
         let q2 = p.pass(-1).point(&back, r.length() - 37.0).unwrap();
         assert!((q1.x - q2.x).abs() < 1e-9 && (q1.y - q2.y).abs() < 1e-9);
+    }
+
+    #[test]
+    fn reversed_path_keeps_cusps() {
+        // Forward 10 m along +x, cusp, reverse 5 m (elementary geometry:
+        // the reference visits (0,0) -> (10,0) -> (5,0)).
+        let mut b = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
+        b.try_push(Segment::line(10.0).unwrap()).unwrap();
+        b.try_push_cusp(Segment::line(5.0).unwrap().reversed())
+            .unwrap();
+        let r = b.build().unwrap();
+        let e = r.end_pose();
+        assert!((e.x - 5.0).abs() < 1e-12 && e.y.abs() < 1e-12);
+        let back = reversed_path(&r).unwrap();
+        // The same points in reverse order: (5,0) -> (10,0) -> (0,0).
+        let e = back.end_pose();
+        assert!(e.x.abs() < 1e-12 && e.y.abs() < 1e-12, "{e:?}");
+        for s in [0.0, 2.0, 5.0, 7.5, 12.0, 15.0] {
+            let a = r.at(s);
+            let q = back.at(back.length() - s);
+            assert!(
+                (a.x - q.x).abs() < 1e-12 && (a.y - q.y).abs() < 1e-12,
+                "s {s}"
+            );
+        }
+        // Directions in reverse order, the cusp where it was.
+        assert_eq!(back.at(2.0).direction, crate::Direction::Reverse);
+        assert_eq!(back.at(10.0).direction, crate::Direction::Forward);
+        assert!((back.at(2.0).heading()).abs() < 1e-12);
+        assert!((back.at(10.0).heading().abs() - core::f64::consts::PI).abs() < 1e-12);
+        // Curved legs: forward arc left, cusp, reverse clothoid.
+        let mut b = PathBuilder::<f64, 4>::new(Pose::new(1.0, 2.0, 0.3)).unwrap();
+        b.try_push(Segment::arc(8.0, 0.1).unwrap()).unwrap();
+        b.try_push_cusp(Segment::transition(6.0, 0.05, -0.1).unwrap().reversed())
+            .unwrap();
+        b.try_push(Segment::line(3.0).unwrap().reversed()).unwrap();
+        let r = b.build().unwrap();
+        let back = reversed_path(&r).unwrap();
+        assert!((back.length() - r.length()).abs() < 1e-12);
+        for i in 0..=34 {
+            let s = 0.5 * f64::from(i);
+            let a = r.at(s);
+            let q = back.at(back.length() - s);
+            assert!((a.x - q.x).hypot(a.y - q.y) < 1e-9, "s {s}: {a:?} {q:?}");
+            // Body heading turned by pi: each leg keeps its driving
+            // direction while its tangent turns round.
+            if (s - 8.0).abs() > 1e-9 {
+                assert!(
+                    (a.body_heading() - q.body_heading() - core::f64::consts::PI)
+                        .wrap_angle()
+                        .abs()
+                        < 1e-9,
+                    "s {s}"
+                );
+            }
+        }
+        let e = back.end_pose();
+        assert!((e.x - 1.0).abs() < 1e-9 && (e.y - 2.0).abs() < 1e-9);
     }
 
     #[test]
