@@ -651,15 +651,16 @@ mod tests {
     #[test]
     fn offset_update_judges_loss_from_the_pass() {
         let r = curved();
+        // (station, offset) on the reference's first line (heading 0.2 rad
+        // from the origin) to plane coordinates.
+        let (sn, cs) = 0.2f64.sin_cos();
+        let at = |s: f64, d: f64| Pose::new(s * cs - d * sn, s * sn + d * cs, 0.2);
         let mut t = Tracker::new(TrackerConfig::field()).unwrap();
-        // 9 m left of the reference at station 10 (on its straight line).
-        let on_pass = Pose::new(
-            10.0 * 0.2f64.cos() - 9.0 * 0.2f64.sin(),
-            10.0 * 0.2f64.sin() + 9.0 * 0.2f64.cos(),
-            0.2,
-        );
+        // 9 m left of the reference at station 10.
+        let on_pass = at(10.0, 9.0);
         let tr = t.update_offset(&r, &on_pass, 9.0).unwrap();
         assert_eq!(tr.status, crate::TrackStatus::OnPath);
+        assert!((tr.station - 10.0).abs() < 1e-9);
         assert!((tr.cross_track - 9.0).abs() < 1e-9);
         // The same point is lost from a pass 3 m out (6 m away > 2 m)...
         let mut u = Tracker::new(TrackerConfig::field()).unwrap();
@@ -674,17 +675,22 @@ mod tests {
             crate::TrackStatus::Lost
         );
         // Beyond the start, the lateral offset from the pass decides.
-        let before = Pose::new(
-            -1.0 * 0.2f64.cos() - 9.5 * 0.2f64.sin(),
-            -1.0 * 0.2f64.sin() + 9.5 * 0.2f64.cos(),
-            0.2,
-        );
+        let before = at(-1.0, 9.5);
         let mut v = Tracker::new(TrackerConfig::field()).unwrap();
         let tb = v.update_offset(&r, &before, 9.0).unwrap();
         assert_eq!(tb.status, crate::TrackStatus::BeforeStart);
+        assert!((tb.station + 1.0).abs() < 1e-9 && (tb.cross_track - 9.5).abs() < 1e-9);
+        let mut w = Tracker::new(TrackerConfig::field()).unwrap();
+        assert_eq!(
+            w.update_offset(&r, &at(-1.0, 12.0), 9.0).unwrap().status,
+            crate::TrackStatus::Lost
+        );
+        // Bad offset: typed error, tracker unchanged.
+        let kept = t;
         assert_eq!(
             t.update_offset(&r, &before, f64::NAN),
             Err(crate::TrackError::NonFinite)
         );
+        assert_eq!(t, kept);
     }
 }
