@@ -317,7 +317,7 @@ mod tests {
             Err(PathError::NonFinite { .. })
         ));
         // Kinematic bicycle: L = 2.5 m, delta = 14.036 deg gives R = 10 m
-        // (CHECKS.md, steering laws: delta = atan(L kappa)).
+        // (kinematic bicycle delta = atan(L kappa): Rajamani, "Vehicle Dynamics and Control", 2nd ed., Springer 2012, sec. 2.2 (from memory)).
         let l = PathLimits::front_steered(2.5f64, libm::atan(0.25), 0.5, 2.0).unwrap();
         assert!((l.min_radius() - 10.0).abs() < 1e-12);
         assert!((l.max_sharpness.unwrap() - 0.1).abs() < 1e-15);

@@ -30,7 +30,9 @@
 //! ```
 //! use kappaline::{fit_g1, Pose};
 //! # fn main() -> Result<(), kappaline::FitError> {
-//! // The symmetric S-curve of CHECKS.md (reference computation with mpmath).
+//! // A symmetric S-curve; values from a reference computation of the
+//! // Bertolazzi-Frego equation with mpmath 1.3.0 `findroot`
+//! // (tests/build_reference/fresnel_moments.py, first fit).
 //! let fit = fit_g1(Pose::new(0.5, 0.0, 1.0), Pose::new(0.5, 0.5, 1.0))?;
 //! assert!((fit.kappa0 - 6.609597043).abs() < 1e-8);
 //! assert!((fit.sharpness + 25.59225875).abs() < 1e-7);

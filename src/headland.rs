@@ -281,12 +281,19 @@ impl<T: Real, const M: usize> HeadlandTurn<T, M> {
     }
 
     /// How far the turn reaches beyond the pass end along the pass
-    /// direction (the headland depth it needs), metres; sampled at 32
-    /// points per segment.
-    pub fn depth(&self) -> T {
-        let Ok(path) = self.path64() else {
-            return T::from_f64(f64::NAN);
-        };
+    /// direction (the headland depth it needs), metres (>= 0, finite);
+    /// sampled at 32 points per segment.
+    ///
+    /// # Errors
+    /// The fields are public, so a turn may not come from
+    /// [`HeadlandTurn::between`]: [`HeadlandError::Path`] if its segments do
+    /// not form a path from [`Self::start`] (no segments, a start that is
+    /// not finite, an end that would not be finite);
+    /// [`HeadlandError::Capacity`] for more than [`MAX_TURN_SEGMENTS`]
+    /// segments; [`HeadlandError::BadInput`] if the depth does not fit in
+    /// `T` (`f32` beyond its range).
+    pub fn depth(&self) -> Result<T, HeadlandError> {
+        let path = self.path64()?;
         let s = self.start;
         let (sn, cs) = libm::sincos(s.heading.to_f64());
         let (x0, y0) = (s.x.to_f64(), s.y.to_f64());
@@ -297,7 +304,12 @@ impl<T: Real, const M: usize> HeadlandTurn<T, M> {
             let p = path.at(st);
             depth = depth.max((p.x - x0) * cs + (p.y - y0) * sn);
         }
-        T::from_f64(depth)
+        let depth = T::from_f64(depth);
+        if depth.is_finite() {
+            Ok(depth)
+        } else {
+            Err(HeadlandError::BadInput)
+        }
     }
 
     fn path64(&self) -> Result<Path<f64, MAX_TURN_SEGMENTS>, HeadlandError> {
@@ -538,6 +550,40 @@ mod tests {
             let t = HeadlandTurn::<f64, 12>::between(from, to, &limits(), policy).unwrap();
             assert_eq!(t.kind, want, "w = {w}");
         }
+    }
+
+    #[test]
+    fn depth_is_finite_or_a_typed_error() {
+        let pi = core::f64::consts::PI;
+        let half_circle = |start: Pose<f64>| {
+            let mut segments = Vec::new();
+            segments.push(Segment::arc(5.0 * pi, 0.2).unwrap()).unwrap();
+            HeadlandTurn::<f64, 4> {
+                kind: TurnKind::UTurn,
+                start,
+                segments,
+                spacing: 10.0,
+            }
+        };
+        // A half circle of radius 5 m reaches 5 m beyond its start along
+        // the start heading (elementary geometry; sampled at its apex).
+        let t = half_circle(Pose::new(1.0, 2.0, 0.5));
+        assert!((t.depth().unwrap() - 5.0).abs() < 1e-12);
+        // Hand-built turns that are no path: typed errors, not NaN.
+        let t = half_circle(Pose::new(f64::NAN, 0.0, 0.0));
+        assert!(matches!(t.depth(), Err(HeadlandError::Path(_))));
+        let mut t = half_circle(Pose::new(0.0, 0.0, 0.0));
+        t.segments.clear();
+        assert_eq!(t.depth(), Err(HeadlandError::Path(PathError::Empty)));
+        // A turn from `between` always has one.
+        let t = HeadlandTurn::<f64, 12>::between(
+            Pose::new(0.0, 0.0, 0.0),
+            Pose::new(0.0, 4.0, pi),
+            &limits(),
+            TurnPolicy::AllowReverse,
+        )
+        .unwrap();
+        assert!(t.depth().unwrap().is_finite());
     }
 
     #[test]

@@ -20,14 +20,17 @@
 //! # Tracking on a pass
 //!
 //! Project the control point onto the **reference** with the core
-//! [`crate::Tracker`] and call [`Pass::track`]: the cross-track to pass `n`
-//! is the reference cross-track minus `n * swath`; heading error is
-//! unchanged (offset curves share their normals); curvatures become offset
-//! curvatures. The tracker's window keeps it on its station even though the
-//! neighbouring passes lie one swath to the side.
+//! [`crate::Tracker`], telling it the pass offset ([`Pass::update`], or
+//! [`crate::Tracker::update_offset`] and then [`Pass::track`]): the
+//! cross-track to pass `n` is the reference cross-track minus `n * swath`;
+//! heading error is unchanged (offset curves share their normals);
+//! curvatures become offset curvatures. The tracker judges loss by the
+//! distance to the pass, not to the reference (a pass 12 m beside the
+//! reference is not "lost"), and its window keeps it on its station even
+//! though the neighbouring passes lie one swath to the side.
 //!
 //! ```
-//! use kappaline::{PathBuilder, Passes, Pose, Segment, Side, Tracker, TrackerConfig};
+//! use kappaline::{PathBuilder, Passes, Pose, Segment, Side, TrackStatus, Tracker, TrackerConfig};
 //! # fn main() -> Result<(), Box<dyn core::error::Error>> {
 //! let reference = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))?
 //!     .push(Segment::line(200.0)?)?
@@ -36,8 +39,9 @@
 //! let pass = passes.pass(passes.next(0, Side::Left, 1)?); // skip one: pass 2
 //! assert_eq!(pass.index, 2);
 //! let mut tracker = Tracker::new(TrackerConfig::field())?;
-//! let t = tracker.update(&reference, &Pose::new(50.0, 12.1, 0.0))?;
-//! let on_pass = pass.track(&t)?;
+//! let (t, on_pass) = pass.update(&mut tracker, &reference, &Pose::new(50.0, 12.1, 0.0))?;
+//! assert_eq!(t.status, TrackStatus::OnPath); // on pass 2, 12 m from the reference
+//! assert!(tracker.is_acquired());
 //! assert!((on_pass.cross_track - 0.1).abs() < 1e-9); // 10 cm left of pass 2
 //! # Ok(()) }
 //! ```
@@ -45,7 +49,7 @@
 use crate::path::{Path, PathBuilder};
 use crate::pose::{PathPoint, Pose};
 use crate::real::Real;
-use crate::tracker::Tracking;
+use crate::tracker::{Tracker, Tracking};
 use crate::{error::PathError, segment::Segment};
 
 /// Why a pass cannot be formed or driven.
@@ -316,7 +320,8 @@ impl<T: Real> Pass<T> {
     }
 
     /// Tracking errors relative to this pass from a tracking state on the
-    /// reference (see the module documentation).
+    /// reference, as [`Tracker::update_offset`] returns it for this pass's
+    /// offset (see the module documentation and [`Pass::update`]).
     ///
     /// # Errors
     /// [`PassError::Cusp`] where the foot point or the lookahead point lies
@@ -339,6 +344,28 @@ impl<T: Real> Pass<T> {
             curvature: here(&t.foot)?,
             curvature_ahead: here(&t.ahead)?,
         })
+    }
+
+    /// One tracking update on this pass: projects `pose` onto `reference`
+    /// with [`Tracker::update_offset`] at this pass's offset (so loss is
+    /// judged by the distance to the pass) and turns the result into errors
+    /// relative to the pass ([`Pass::track`]). Returns both: the reference
+    /// tracking carries the station and [`crate::TrackStatus`].
+    ///
+    /// # Errors
+    /// [`PassError::BadInput`] if the pose is not finite (the tracker is
+    /// unchanged); [`PassError::Cusp`] as [`Pass::track`] (the tracker has
+    /// moved).
+    pub fn update<const N: usize>(
+        &self,
+        tracker: &mut Tracker<T>,
+        reference: &Path<T, N>,
+        pose: &Pose<T>,
+    ) -> Result<(Tracking<T>, PassTracking<T>), PassError<T>> {
+        let t = tracker
+            .update_offset(reference, pose, self.offset)
+            .map_err(|_| PassError::BadInput)?;
+        Ok((t, self.track(&t)?))
     }
 
     /// Where the pass starts: position and heading at reference station 0.
@@ -387,6 +414,10 @@ fn turned_to<T: Real, const N: usize>(reference: &Path<T, N>, p: &PathPoint<T>) 
 /// pass `-n` of the reversed path: use it for the passes driven against the
 /// reference direction in a back-and-forth field pattern.
 ///
+/// Each segment keeps its driving direction, so a cusp of the reference
+/// (a joint where the direction changes) is a cusp of the reversed path at
+/// the same place: the tangent of the reversed legs turns by pi there too.
+///
 /// Cost: O(N), once per field, not per control cycle.
 ///
 /// # Errors
@@ -397,11 +428,17 @@ pub fn reversed_path<T: Real, const N: usize>(
     let end = reference.end_pose();
     let mut b =
         PathBuilder::<T, N>::new(Pose::new(end.x, end.y, (end.heading + T::PI).wrap_angle()))?;
+    let mut after: Option<Segment<T>> = None;
     for i in (0..reference.len()).rev() {
         if let Some(seg) = reference.segment(i) {
             let r = Segment::clothoid(seg.length(), -seg.kappa_end(), seg.sigma())?
                 .with_direction(seg.direction());
-            b.try_push(r)?;
+            if after.is_some_and(|a| a.direction() != seg.direction()) {
+                b.try_push_cusp(r)?;
+            } else {
+                b.try_push(r)?;
+            }
+            after = Some(seg);
         }
     }
     b.build()
@@ -508,14 +545,152 @@ mod tests {
     }
 
     #[test]
+    fn reversed_path_keeps_cusps() {
+        // Forward 10 m along +x, cusp, reverse 5 m (elementary geometry:
+        // the reference visits (0,0) -> (10,0) -> (5,0)).
+        let mut b = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
+        b.try_push(Segment::line(10.0).unwrap()).unwrap();
+        b.try_push_cusp(Segment::line(5.0).unwrap().reversed())
+            .unwrap();
+        let r = b.build().unwrap();
+        let e = r.end_pose();
+        assert!((e.x - 5.0).abs() < 1e-12 && e.y.abs() < 1e-12);
+        let back = reversed_path(&r).unwrap();
+        // The same points in reverse order: (5,0) -> (10,0) -> (0,0).
+        let e = back.end_pose();
+        assert!(e.x.abs() < 1e-12 && e.y.abs() < 1e-12, "{e:?}");
+        for s in [0.0, 2.0, 5.0, 7.5, 12.0, 15.0] {
+            let a = r.at(s);
+            let q = back.at(back.length() - s);
+            assert!(
+                (a.x - q.x).abs() < 1e-12 && (a.y - q.y).abs() < 1e-12,
+                "s {s}"
+            );
+        }
+        // Directions in reverse order, the cusp where it was.
+        assert_eq!(back.at(2.0).direction, crate::Direction::Reverse);
+        assert_eq!(back.at(10.0).direction, crate::Direction::Forward);
+        assert!((back.at(2.0).heading()).abs() < 1e-12);
+        assert!((back.at(10.0).heading().abs() - core::f64::consts::PI).abs() < 1e-12);
+        // Curved legs: forward arc left, cusp, reverse clothoid.
+        let mut b = PathBuilder::<f64, 4>::new(Pose::new(1.0, 2.0, 0.3)).unwrap();
+        b.try_push(Segment::arc(8.0, 0.1).unwrap()).unwrap();
+        b.try_push_cusp(Segment::transition(6.0, 0.05, -0.1).unwrap().reversed())
+            .unwrap();
+        b.try_push(Segment::line(3.0).unwrap().reversed()).unwrap();
+        let r = b.build().unwrap();
+        let back = reversed_path(&r).unwrap();
+        assert!((back.length() - r.length()).abs() < 1e-12);
+        for i in 0..=34 {
+            let s = 0.5 * f64::from(i);
+            let a = r.at(s);
+            let q = back.at(back.length() - s);
+            assert!((a.x - q.x).hypot(a.y - q.y) < 1e-9, "s {s}: {a:?} {q:?}");
+            // Body heading turned by pi: each leg keeps its driving
+            // direction while its tangent turns round.
+            if (s - 8.0).abs() > 1e-9 {
+                assert!(
+                    (a.body_heading() - q.body_heading() - core::f64::consts::PI)
+                        .wrap_angle()
+                        .abs()
+                        < 1e-9,
+                    "s {s}"
+                );
+            }
+        }
+        let e = back.end_pose();
+        assert!((e.x - 1.0).abs() < 1e-9 && (e.y - 2.0).abs() < 1e-9);
+    }
+
+    #[test]
     fn track_subtracts_the_offset() {
         let r = curved();
         let pass = Passes::new(3.0).unwrap().pass(2);
         let q = pass.point(&r, 50.0).unwrap();
         let mut t = Tracker::new(TrackerConfig::field()).unwrap();
-        let tr = t.update(&r, &q.pose()).unwrap();
-        let on = pass.track(&tr).unwrap();
+        let (tr, on) = pass.update(&mut t, &r, &q.pose()).unwrap();
+        // 6 m from the reference, but on the pass: not lost.
+        assert_eq!(tr.status, crate::TrackStatus::OnPath);
+        assert!(t.is_acquired());
+        assert!((tr.station - 50.0).abs() < 1e-9);
         assert!(on.cross_track.abs() < 1e-9);
+        // Offset-curve curvature kappa / (1 - kappa d) (parallel curves, see
+        // the module documentation).
         assert!((on.curvature - 0.05 / (1.0 - 0.05 * 6.0)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn driving_along_a_pass_nine_metres_out_stays_on_it() {
+        // Pass 3 of a 3 m swath: 9 m left of the reference, inside its
+        // 20 m radius (kappa d = 0.45), 0.2 m left of the pass.
+        let r = curved();
+        let pass = Passes::new(3.0).unwrap().pass(3);
+        pass.check(&r).unwrap();
+        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut last = f64::NEG_INFINITY;
+        let steps = 350; // 0.2 m of reference station per step
+        for i in 0..=steps {
+            let s = 0.1 + (r.length() - 0.2) * f64::from(i) / f64::from(steps);
+            let q = pass.point(&r, s).unwrap();
+            let pose = Pose::new(q.x - 0.2 * q.sin, q.y + 0.2 * q.cos, q.heading());
+            let (tr, on) = pass.update(&mut t, &r, &pose).unwrap();
+            assert_eq!(tr.status, crate::TrackStatus::OnPath, "step {i}");
+            // Acquired on the first step and never lost: no whole-path search after it.
+            assert!(t.is_acquired(), "step {i}");
+            assert!(tr.station > last, "station went back at step {i}");
+            assert!(
+                (tr.station - s).abs() < 1e-9,
+                "step {i}: {} vs {s}",
+                tr.station
+            );
+            assert!((on.cross_track - 0.2).abs() < 1e-9, "step {i}");
+            last = tr.station;
+        }
+    }
+
+    #[test]
+    fn offset_update_judges_loss_from_the_pass() {
+        let r = curved();
+        // (station, offset) on the reference's first line (heading 0.2 rad
+        // from the origin) to plane coordinates.
+        let (sn, cs) = 0.2f64.sin_cos();
+        let at = |s: f64, d: f64| Pose::new(s * cs - d * sn, s * sn + d * cs, 0.2);
+        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        // 9 m left of the reference at station 10.
+        let on_pass = at(10.0, 9.0);
+        let tr = t.update_offset(&r, &on_pass, 9.0).unwrap();
+        assert_eq!(tr.status, crate::TrackStatus::OnPath);
+        assert!((tr.station - 10.0).abs() < 1e-9);
+        assert!((tr.cross_track - 9.0).abs() < 1e-9);
+        // The same point is lost from a pass 3 m out (6 m away > 2 m)...
+        let mut u = Tracker::new(TrackerConfig::field()).unwrap();
+        assert_eq!(
+            u.update_offset(&r, &on_pass, 3.0).unwrap().status,
+            crate::TrackStatus::Lost
+        );
+        assert!(!u.is_acquired());
+        // ...and from the reference itself, as `update` judges it.
+        assert_eq!(
+            u.update(&r, &on_pass).unwrap().status,
+            crate::TrackStatus::Lost
+        );
+        // Beyond the start, the lateral offset from the pass decides.
+        let before = at(-1.0, 9.5);
+        let mut v = Tracker::new(TrackerConfig::field()).unwrap();
+        let tb = v.update_offset(&r, &before, 9.0).unwrap();
+        assert_eq!(tb.status, crate::TrackStatus::BeforeStart);
+        assert!((tb.station + 1.0).abs() < 1e-9 && (tb.cross_track - 9.5).abs() < 1e-9);
+        let mut w = Tracker::new(TrackerConfig::field()).unwrap();
+        assert_eq!(
+            w.update_offset(&r, &at(-1.0, 12.0), 9.0).unwrap().status,
+            crate::TrackStatus::Lost
+        );
+        // Bad offset: typed error, tracker unchanged.
+        let kept = t;
+        assert_eq!(
+            t.update_offset(&r, &before, f64::NAN),
+            Err(crate::TrackError::NonFinite)
+        );
+        assert_eq!(t, kept);
     }
 }

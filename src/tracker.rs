@@ -22,6 +22,10 @@
 //! the nearest path may well be the wrong pass. Call [`Tracker::reset`] (or
 //! [`Tracker::acquire`]) when the supervisor decides to re-acquire.
 //!
+//! To follow a curve beside the path (a field pass tracked on its
+//! reference), use [`Tracker::update_offset`]: loss is then judged by the
+//! distance to that curve.
+//!
 //! # Cost
 //!
 //! Lines: no trigonometry. Arcs: one `sin_cos` and one `atan2` per segment
@@ -251,7 +255,43 @@ impl<T: Real> Tracker<T> {
             return Err(TrackError::NonFinite);
         }
         let foot = self.search_window(path, pose, None);
-        Ok(self.settle(path, pose, foot))
+        Ok(self.settle(path, pose, foot, T::ZERO))
+    }
+
+    /// As [`Tracker::update`], for a control point that should follow the
+    /// curve `offset` metres beside `path` (left positive), such as a field
+    /// pass tracked on its reference (see [`crate::Pass::update`]).
+    ///
+    /// The projection, the window and the reported errors are those of
+    /// [`Tracker::update`] (cross-track is still to `path`); only the loss
+    /// test and acquisition change: the distance judged against
+    /// `lost_distance` is the one to the offset curve, `|cross_track -
+    /// offset|` (plus any distance along the tangent beyond the window or an
+    /// end), and the whole-path search scores candidates by it. With
+    /// [`Tracker::update`] a vehicle on a pass more than `lost_distance`
+    /// from the reference would be lost on every update.
+    ///
+    /// The reference foot moves `1 / (1 - kappa offset)` times as fast as a
+    /// vehicle on the offset curve: on the inside of tight curves give
+    /// `window_ahead` that much more room.
+    ///
+    /// # Errors
+    /// [`TrackError::NonFinite`] if the pose or the offset is not finite;
+    /// the tracker is unchanged.
+    pub fn update_offset<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        offset: T,
+    ) -> Result<Tracking<T>, TrackError> {
+        if !pose.is_finite() || !offset.is_finite() {
+            return Err(TrackError::NonFinite);
+        }
+        if !self.acquired {
+            return self.acquire_with(path, pose, None, offset);
+        }
+        let foot = self.search_window(path, pose, None);
+        Ok(self.settle(path, pose, foot, offset))
     }
 
     /// As [`Tracker::update`], for a vehicle that is driving in `direction`:
@@ -280,7 +320,7 @@ impl<T: Real> Tracker<T> {
             return Err(TrackError::NonFinite);
         }
         let foot = self.search_window(path, pose, Some(direction));
-        Ok(self.settle(path, pose, foot))
+        Ok(self.settle(path, pose, foot, T::ZERO))
     }
 
     /// Searches the whole path for the control point (bounded by the path's
@@ -304,11 +344,23 @@ impl<T: Real> Tracker<T> {
         pose: &Pose<T>,
         driving: Option<Direction>,
     ) -> Result<Tracking<T>, TrackError> {
-        if !pose.is_finite() {
+        self.acquire_with(path, pose, driving, T::ZERO)
+    }
+
+    /// Acquisition preferring segments driven in `driving`, of the curve
+    /// `offset` metres left of `path`.
+    fn acquire_with<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        driving: Option<Direction>,
+        offset: T,
+    ) -> Result<Tracking<T>, TrackError> {
+        if !pose.is_finite() || !offset.is_finite() {
             return Err(TrackError::NonFinite);
         }
-        let foot = self.search_all(path, pose, driving);
-        let result = self.settle(path, pose, foot);
+        let foot = self.search_all(path, pose, driving, offset);
+        let result = self.settle(path, pose, foot, offset);
         if result.status != TrackStatus::Lost {
             self.acquired = true;
         }
@@ -316,12 +368,14 @@ impl<T: Real> Tracker<T> {
     }
 
     /// Turns a foot point into the tracking state, moving the cursor there
-    /// unless the point is lost.
+    /// unless the point is lost from the curve `offset` metres left of the
+    /// path (0: the path itself).
     fn settle<const N: usize>(
         &mut self,
         path: &Path<T, N>,
         pose: &Pose<T>,
         foot: Foot<T>,
+        offset: T,
     ) -> Tracking<T> {
         let cursor = Cursor::on(foot.segment, foot.offset);
         let point = cursor.point(path);
@@ -343,12 +397,20 @@ impl<T: Real> Tracker<T> {
         }
         // A vehicle that ran past a cusp (stopping late before reversing) is
         // beyond both legs: like beyond an end, only its lateral offset
-        // says whether it is off the path.
+        // (from the offset curve) says whether it is off the path.
+        let lost = self.config.lost_distance;
+        let beside = lateral - offset;
         let off_path = match status {
-            TrackStatus::OnPath if !beyond_cusp(path, &foot, along) => {
-                foot.dist2 > self.config.lost_distance * self.config.lost_distance
+            // Offset 0: the squared distance to the foot, as found.
+            TrackStatus::OnPath if !beyond_cusp(path, &foot, along) && offset == T::ZERO => {
+                foot.dist2 > lost * lost
             }
-            _ => lateral.abs() > self.config.lost_distance,
+            // The point of the offset curve beside the foot lies `offset`
+            // along the normal; `along` is nonzero only at a window edge.
+            TrackStatus::OnPath if !beyond_cusp(path, &foot, along) => {
+                along * along + beside * beside > lost * lost
+            }
+            _ => beside.abs() > lost,
         };
         if off_path {
             status = TrackStatus::Lost;
@@ -472,10 +534,11 @@ impl<T: Real> Tracker<T> {
         path: &Path<T, N>,
         pose: &Pose<T>,
         driving: Option<Direction>,
+        offset: T,
     ) -> Foot<T> {
         driving
-            .and_then(|d| self.search_all_of(path, pose, Some(d)))
-            .or_else(|| self.search_all_of(path, pose, None))
+            .and_then(|d| self.search_all_of(path, pose, Some(d), offset))
+            .or_else(|| self.search_all_of(path, pose, None, offset))
             .unwrap_or(Foot {
                 segment: 0,
                 offset: T::ZERO,
@@ -483,23 +546,26 @@ impl<T: Real> Tracker<T> {
             })
     }
 
-    /// The best-scoring foot on the segments driven in `only` (all if `None`).
+    /// The best-scoring foot on the segments driven in `only` (all if `None`),
+    /// for the curve `offset` metres left of the path.
     fn search_all_of<const N: usize>(
         &self,
         path: &Path<T, N>,
         pose: &Pose<T>,
         only: Option<Direction>,
+        offset: T,
     ) -> Option<Foot<T>> {
         let w = self.config.heading_weight;
         let (hs, hc) = pose.heading.sin_cos();
-        // Score = distance + w * |heading error|; the bounding circle bounds
-        // the distance part from below, which is enough to prune.
+        // Score = distance to the offset curve + w * |heading error|. The
+        // bounding circle bounds the distance to the segment from below, and
+        // that distance minus |offset| bounds the first part: enough to prune.
         let mut best: Option<(T, Foot<T>)> = None;
         for i in 0..path.len() {
             if only.is_some_and(|d| path.placed_at(i).direction != d) {
                 continue;
             }
-            let lower = lower_bound(path, i, pose.x, pose.y);
+            let lower = lower_bound(path, i, pose.x, pose.y) - offset.abs();
             if let Some((score, _)) = best {
                 if lower > score {
                     continue;
@@ -507,8 +573,20 @@ impl<T: Real> Tracker<T> {
             }
             let f = nearest_on_segment(path, i, T::ZERO, path.segment_length(i), pose.x, pose.y);
             let mut score = f.dist2.sqrt();
+            if offset == T::ZERO && w <= T::ZERO {
+                if best.is_none_or(|(s, _)| score < s) {
+                    best = Some((score, f));
+                }
+                continue;
+            }
+            let p = path.eval_in(i, f.offset);
+            if offset != T::ZERO {
+                // Distance to the point of the offset curve beside the foot.
+                let along = p.along_offset(pose.x, pose.y);
+                let beside = p.lateral_offset(pose.x, pose.y) - offset;
+                score = (along * along + beside * beside).sqrt();
+            }
             if w > T::ZERO {
-                let p = path.eval_in(i, f.offset);
                 let sign = p.direction.sign::<T>();
                 // Heading error from the unit vectors: atan2(cross, dot).
                 let cross = (p.cos * hs - p.sin * hc) * sign;

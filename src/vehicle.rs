@@ -347,7 +347,9 @@ mod tests {
 
     #[test]
     fn bicycle_check_value() {
-        // CHECKS.md: kinematic bicycle, L = 2.5 m, R = 10 m -> 14.036 degrees.
+        // Kinematic bicycle delta = atan(L / R) (Rajamani, "Vehicle Dynamics and Control", 2nd ed., Springer
+        // 2012, sec. 2.2 (from memory)):
+        // L = 2.5 m, R = 10 m -> atan(0.25) = 14.036 degrees.
         let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
         let d = v.steer_from_curvature(0.1);
         assert!((d.to_degrees() - 14.036).abs() < 5e-4);

@@ -6,7 +6,8 @@
 //! shift `p = ys - R (1 - cos ts)`, `k = xs - R sin ts`,
 //! tangent length `Ts = (R + p) tan(D/2) + k`,
 //! external distance `E = (R + p) / cos(D/2) - R` (vertex to curve midpoint).
-//! The transition end uses the clothoid relation of CHECKS.md:
+//! The transition end uses the clothoid relations of road alignment
+//! (common practice; Fresnel integrals as in Abramowitz & Stegun 7.3.1-7.3.2):
 //! `xs = A sqrt(pi) C(Ls / (A sqrt(pi)))`, `ys = A sqrt(pi) S(...)`, `A^2 = R Ls`.
 
 use kappaline::{check_path, corner_path, fresnel, CornerConfig, PathLimits, TurnShape};

@@ -1,5 +1,5 @@
-//! Geodesy (issue 4) against published constants, the CHECKS.md ECEF
-//! examples and geographiclib-rs 0.2.7 (crates.io; `Geodesic::wgs84()`,
+//! Geodesy (issue 4) against published constants (NIMA TR8350.2), the ECEF
+//! example of the GeographicLib CartConvert documentation and geographiclib-rs 0.2.7 (crates.io; `Geodesic::wgs84()`,
 //! `DirectGeodesic::direct`, `InverseGeodesic::inverse`), a general-purpose
 //! geodesic library.
 //!
@@ -23,7 +23,8 @@ use kappaline::{Ecef, Enu, Geodetic, LocalFrame, WGS84_A, WGS84_B, WGS84_E2, WGS
 #[test]
 fn constants_of_nima_tr8350_2() {
     // NIMA TR8350.2 table 3.1: a = 6378137.0 m, 1/f = 298.257223563; derived
-    // (CHECKS.md) b = 6356752.31424518 m, e^2 = 0.00669437999014132.
+    // b = a (1 - f) = 6356752.31424518 m, e^2 = f (2 - f) = 0.00669437999014132
+    // (NIMA TR8350.2 table 3.3 lists them to fewer digits; table number from memory).
     assert_eq!(WGS84_A, 6378137.0);
     assert!((1.0 / WGS84_F - 298.257223563).abs() < 1e-9);
     assert!((WGS84_B - 6356752.31424518).abs() < 1e-8);
@@ -35,8 +36,9 @@ fn constants_of_nima_tr8350_2() {
 }
 
 #[test]
-fn ecef_examples_of_checks_md() {
-    // GeographicLib CartConvert documentation example (via CHECKS.md):
+fn ecef_examples_of_cartconvert_docs() {
+    // GeographicLib CartConvert documentation (C. Karney, GeographicLib,
+    // "CartConvert" man page, EXAMPLES section), geodetic to geocentric:
     // (33.3 deg, 44.4 deg, 6000 m) -> (3816209.60, 3737108.55, 3485109.57) m,
     // printed to the centimetre.
     let e = Geodetic::from_degrees(33.3, 44.4, 6000.0)

@@ -125,7 +125,7 @@ fn spacing_below_at_and_above_the_turning_diameter() {
                     }
                     // The headland depth is at least the turn radius (a turn
                     // through 90 degrees at radius >= R goes R ahead).
-                    assert!(turn.depth() >= 1.0 / kappa_max - 1e-9);
+                    assert!(turn.depth().unwrap() >= 1.0 / kappa_max - 1e-9);
                 }
             }
         }

@@ -5,7 +5,7 @@ use proptest::prelude::*;
 
 #[test]
 fn terrain_compensation_fact() {
-    // Common practice (CHECKS.md, facts of the trade): a 3 m high antenna on a
+    // Common practice (facts of the trade): a 3 m high antenna on a
     // 5 degree side slope sits about 3 sin(5 deg) = 26 cm sideways of the
     // wheels' track.
     let arm = LeverArm::new(0.0, 0.0, 3.0).unwrap();

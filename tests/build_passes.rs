@@ -8,7 +8,7 @@
 //! `4 * area / (|ab| |bc| |ca|)` of the circle through three points and the
 //! chord-length sum as arc length, neither of which uses the formulas under test.
 
-use kappaline::{Passes, PathBuilder, Pose, Segment, Tracker, TrackerConfig};
+use kappaline::{Passes, PathBuilder, Pose, Segment, TrackStatus, Tracker, TrackerConfig};
 use proptest::prelude::*;
 
 fn reference() -> kappaline::Path<f64, 8> {
@@ -36,8 +36,8 @@ proptest! {
         let pass = Passes::new(4.5).unwrap().pass(n);
         let q = pass.point(&r, s).unwrap();
         let mut t = Tracker::new(TrackerConfig::field()).unwrap();
-        let tr = t.update(&r, &q.pose()).unwrap();
-        let on = pass.track(&tr).unwrap();
+        let (tr, on) = pass.update(&mut t, &r, &q.pose()).unwrap();
+        prop_assert_eq!(tr.status, TrackStatus::OnPath);
         prop_assert!(on.cross_track.abs() < 1e-9, "cross-track {}", on.cross_track);
         prop_assert!((tr.station - s).abs() < 1e-9);
         prop_assert!(on.heading_error.abs() < 1e-9);

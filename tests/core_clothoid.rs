@@ -162,7 +162,8 @@ fn quadrature_grid() {
 
 #[test]
 fn published_a12_r9_example() {
-    // Road-alignment relations (CHECKS.md "Clothoids"): R L = A^2, tau = L / (2R),
+    // Road-alignment relations of the clothoid (common practice in highway
+    // design, e.g. spiral curve elements): R L = A^2, tau = L / (2R),
     // x = A sqrt(pi) C(L / (A sqrt(pi))), y = A sqrt(pi) S(L / (A sqrt(pi))).
     // A = 12 m, R = 9 m: L = 16 m, tau = 8/9 rad (50.93 degrees).
     let (a, r) = (12.0f64, 9.0f64);

@@ -20,7 +20,7 @@ use steering_sim::{check_limits, run, settling, Sim};
 const RADIUS: f64 = 20.0;
 
 fn tractor() -> Vehicle<f64> {
-    // Common practice (CHECKS.md, facts of the trade): wheelbase 2.2-3.2 m,
+    // Common practice (facts of the trade): wheelbase 2.2-3.2 m,
     // steering 35-55 degrees, 20-60 degrees/s.
     Vehicle::front_steered(2.5, 35f64.to_radians(), 40f64.to_radians())
         .unwrap()

@@ -7,7 +7,8 @@
 //! Tomlin, Montemerlo, Thrun, ACC 2007, delta = psi + atan(k e / (k_soft + v));
 //! Samson 1995 / De Luca, Oriolo, Samson 1998, chained-form path following
 //! (the curvature formula as written out in src/steer/frenet.rs). The check
-//! values 0.08 1/m, 14.036 degrees and pi/4 are those of shared/CHECKS.md.
+//! values follow from those formulas: 0.08 1/m (x = 1 m, l = 5 m),
+//! 14.036 degrees (L = 2.5 m, R = 10 m) and pi/4 (k e = k_soft + v).
 
 use core::f64::consts::{FRAC_PI_4, PI};
 

@@ -1,6 +1,7 @@
 //! The steering-lag preview of the curvature feedforward
 //! (`Vehicle::with_steer_lag`). Expected values follow from the kinematic
-//! bicycle `delta = atan(L kappa)` (CHECKS.md, steering laws) and the
+//! bicycle `delta = atan(L kappa)` (Rajamani, "Vehicle Dynamics and
+//! Control", 2nd ed., 2012, sec. 2.2, from memory) and the
 //! definition of the preview: feedforward taken `speed * lag` metres ahead.
 
 use kappaline::{

@@ -87,7 +87,7 @@ pub struct Options {
     /// Planned speed, m/s (with `--max-curvature-rate`).
     #[arg(long, value_parser = positive, requires = "max_curvature_rate", allow_negative_numbers = true)]
     pub speed: Option<f64>,
-    /// Geodetic origin of the local frame: `LAT,LON[,HEIGHT]` (degrees, degrees, metres).
+    /// Geodetic origin of the local frame: LAT,LON or LAT,LON,HEIGHT (degrees, degrees, metres).
     #[arg(long, value_parser = parse_origin)]
     pub origin: Option<(f64, f64, f64)>,
     /// Prefix of the generated constants (an identifier; upper-cased).

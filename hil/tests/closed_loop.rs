@@ -66,7 +66,7 @@ fn every_builtin_scenario_meets_its_thresholds() {
 
 /// Acceptance figure of the project (issue 5, DESIGN.md "Targets"): with
 /// RTK-grade input, 2 cm white noise per axis at 10 Hz and 50 ms latency
-/// (RTK about 1-2 cm: common practice, CHECKS.md), the cross-track RMS on
+/// (RTK about 1-2 cm: common practice), the cross-track RMS on
 /// straight passes is at most 1.5 times the noise. Field scenario, flat
 /// ground, no wandering bias, several seeds.
 #[test]

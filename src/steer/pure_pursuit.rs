@@ -128,7 +128,8 @@ mod tests {
 
     #[test]
     fn coulter_check_value_and_sine_form() {
-        // CHECKS.md (Coulter 1992): x = 1 m, l = 5 m -> 0.08 1/m; also 2 sin(alpha) / l.
+        // Coulter, CMU-RI-TR-92-01 (1992), gamma = 2x / l^2: x = 1 m, l = 5 m
+        // gives 2 / 25 = 0.08 1/m; also the equivalent 2 sin(alpha) / l.
         let mut pp = PurePursuit::<f64>::tractor();
         let alpha = 0.3f64;
         let l = 4.0;

@@ -65,7 +65,8 @@ const DELTA_CEILING: f64 = 1.396_263_401_595_463_6;
 /// ```
 /// use kappaline::{Stanley, SteeringInput, SteeringLaw};
 /// # fn main() -> Result<(), kappaline::SteerError> {
-/// // CHECKS.md: psi = 0 and k e = k_soft + v gives delta = pi / 4.
+/// // Hoffmann, Tomlin, Montemerlo, Thrun (ACC 2007), delta = psi + atan(k e / (k_soft + v)):
+/// // psi = 0 and k e = k_soft + v give delta = atan(1) = pi / 4.
 /// let st = Stanley::<f64>::new(2.0, 1.0, 2.5)?;
 /// let (k, soft, v) = (2.0, 1.0, 2.0);
 /// let e = -(soft + v) / k; // right of the path: steer left
@@ -184,7 +185,8 @@ mod tests {
 
     #[test]
     fn check_value_pi_over_4() {
-        // CHECKS.md / Hoffmann et al. 2007: psi = 0, k e = k_soft + v -> delta = pi/4.
+        // Hoffmann, Tomlin, Montemerlo, Thrun (ACC 2007), delta = psi + atan(k e / (k_soft + v)):
+        // psi = 0, k e = k_soft + v -> delta = atan(1) = pi/4.
         let st = Stanley::<f64>::new(1.5, 0.5, 2.0).unwrap();
         let v = 3.0;
         let e = (0.5 + v) / 1.5;
