@@ -95,13 +95,28 @@ const LOOP_LENGTH: f64 = 1000.0;
 
 /// Position error (m), heading error (rad) at the end of the fitted curve,
 /// placed by the core, and the curve length (m).
+///
+/// Curves longer than a path may be (`MAX_COORDINATE`, 1e7 m: the near-closed
+/// loops) are evaluated with the same closed form the path uses, the
+/// generalised Fresnel integral, since no path can hold them.
 fn closure(from: Pose<f64>, to: Pose<f64>) -> (f64, f64, f64) {
     let f = fit_g1(from, to).unwrap();
-    let b = PathBuilder::<f64, 1>::new(from)
-        .unwrap()
-        .push(f.segment().unwrap())
-        .unwrap();
-    let e = b.end_pose();
+    let e = if f.length <= kappaline::MAX_COORDINATE {
+        PathBuilder::<f64, 1>::new(from)
+            .unwrap()
+            .push(f.segment().unwrap())
+            .unwrap()
+            .end_pose()
+    } else {
+        let l = f.length;
+        let (x, y) =
+            kappaline::generalized_fresnel(f.sharpness * l * l, f.kappa0 * l, from.heading);
+        Pose::new(
+            from.x + l * x,
+            from.y + l * y,
+            from.heading + l * (f.kappa0 + 0.5 * f.sharpness * l),
+        )
+    };
     let dp = (e.x - to.x).hypot(e.y - to.y);
     let dh = (e.heading - to.heading).wrap_angle().abs();
     (dp, dh, f.length)
