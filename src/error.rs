@@ -76,7 +76,8 @@ pub enum TrackError {
     /// The pose or a distance given is NaN or infinite.
     NonFinite,
     /// A configuration value is negative, zero where it must be positive, or
-    /// otherwise out of range.
+    /// otherwise out of range; or a position beyond twice
+    /// [`crate::MAX_COORDINATE`].
     OutOfRange,
 }
 

@@ -241,8 +241,9 @@ impl<T: Real> Tracker<T> {
     /// over the whole path if the tracker has not acquired it yet.
     ///
     /// # Errors
-    /// [`TrackError::NonFinite`] if the pose is not finite; the tracker is
-    /// unchanged.
+    /// [`TrackError::NonFinite`] if the pose is not finite,
+    /// [`TrackError::OutOfRange`] if it lies beyond twice
+    /// [`crate::MAX_COORDINATE`]; the tracker is unchanged.
     pub fn update<const N: usize>(
         &mut self,
         path: &Path<T, N>,
@@ -251,9 +252,7 @@ impl<T: Real> Tracker<T> {
         if !self.acquired {
             return self.acquire(path, pose);
         }
-        if !pose.is_finite() {
-            return Err(TrackError::NonFinite);
-        }
+        check_input(pose, T::ZERO)?;
         let foot = self.search_window(path, pose, None);
         Ok(self.settle(path, pose, foot, T::ZERO))
     }
@@ -276,7 +275,8 @@ impl<T: Real> Tracker<T> {
     /// `window_ahead` that much more room.
     ///
     /// # Errors
-    /// [`TrackError::NonFinite`] if the pose or the offset is not finite;
+    /// [`TrackError::NonFinite`] if the pose or the offset is not finite,
+    /// [`TrackError::OutOfRange`] beyond twice [`crate::MAX_COORDINATE`];
     /// the tracker is unchanged.
     pub fn update_offset<const N: usize>(
         &mut self,
@@ -284,9 +284,7 @@ impl<T: Real> Tracker<T> {
         pose: &Pose<T>,
         offset: T,
     ) -> Result<Tracking<T>, TrackError> {
-        if !pose.is_finite() || !offset.is_finite() {
-            return Err(TrackError::NonFinite);
-        }
+        check_input(pose, offset)?;
         if !self.acquired {
             return self.acquire_with(path, pose, None, offset);
         }
@@ -316,9 +314,7 @@ impl<T: Real> Tracker<T> {
         if !self.acquired {
             return self.acquire_driving(path, pose, Some(direction));
         }
-        if !pose.is_finite() {
-            return Err(TrackError::NonFinite);
-        }
+        check_input(pose, T::ZERO)?;
         let foot = self.search_window(path, pose, Some(direction));
         Ok(self.settle(path, pose, foot, T::ZERO))
     }
@@ -327,8 +323,9 @@ impl<T: Real> Tracker<T> {
     /// segment count) and, if found within `lost_distance`, moves there.
     ///
     /// # Errors
-    /// [`TrackError::NonFinite`] if the pose is not finite; the tracker is
-    /// unchanged.
+    /// [`TrackError::NonFinite`] if the pose is not finite,
+    /// [`TrackError::OutOfRange`] if it lies beyond twice
+    /// [`crate::MAX_COORDINATE`]; the tracker is unchanged.
     pub fn acquire<const N: usize>(
         &mut self,
         path: &Path<T, N>,
@@ -356,9 +353,7 @@ impl<T: Real> Tracker<T> {
         driving: Option<Direction>,
         offset: T,
     ) -> Result<Tracking<T>, TrackError> {
-        if !pose.is_finite() || !offset.is_finite() {
-            return Err(TrackError::NonFinite);
-        }
+        check_input(pose, offset)?;
         let foot = self.search_all(path, pose, driving, offset);
         let result = self.settle(path, pose, foot, offset);
         if result.status != TrackStatus::Lost {
@@ -599,6 +594,20 @@ impl<T: Real> Tracker<T> {
         }
         best.map(|(_, f)| f)
     }
+}
+
+/// Refuses a non-finite pose or offset, and positions so far out that the
+/// squared distances of the projection could overflow (`f32` included):
+/// beyond twice [`crate::MAX_COORDINATE`], the bound of every path point.
+fn check_input<T: Real>(pose: &Pose<T>, offset: T) -> Result<(), TrackError> {
+    if !pose.is_finite() || !offset.is_finite() {
+        return Err(TrackError::NonFinite);
+    }
+    let far = |v: T| !crate::path::within_plane(T::HALF.to_f64() * v.to_f64());
+    if far(pose.x) || far(pose.y) || far(offset) {
+        return Err(TrackError::OutOfRange);
+    }
+    Ok(())
 }
 
 /// Segments searched on each side of the foot (its own counts on both).

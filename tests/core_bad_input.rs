@@ -381,14 +381,34 @@ fn tracker_updates() {
     let r = t.update(&path, &Pose::new(1e6, -1e6, 0.0)).unwrap();
     assert_eq!(r.status, kappaline::TrackStatus::Lost);
     assert_eq!(t, before);
-    // Huge but finite coordinates and headings: no panic, no NaN in the errors.
+    // Huge but finite coordinates: refused (their squared distances would
+    // overflow to infinity), state unchanged; a huge heading is fine.
     for q in [
-        Pose::new(1e300, 1e300, 1e300),
-        Pose::new(-f64::MAX, f64::MAX, -f64::MAX),
+        Pose::new(1e300, 1e300, 0.0),
+        Pose::new(-f64::MAX, f64::MAX, 0.0),
+        Pose::new(0.0, 2.1e7, 0.0),
     ] {
-        let mut fresh = Tracker::new(TrackerConfig::field()).unwrap();
-        let r = fresh.update(&path, &q).unwrap();
-        assert_eq!(r.status, kappaline::TrackStatus::Lost);
-        assert!(!r.heading_error.is_nan());
+        let before = t;
+        assert_eq!(t.update(&path, &q), Err(TrackError::OutOfRange));
+        assert_eq!(t.acquire(&path, &q), Err(TrackError::OutOfRange));
+        assert_eq!(t, before);
     }
+    let mut fresh = Tracker::new(TrackerConfig::field()).unwrap();
+    let r = fresh.update(&path, &Pose::new(3.0, 2.0, 1e300)).unwrap();
+    assert!(r.heading_error.is_finite() && r.cross_track.is_finite());
+    // f32: 3e38 is finite in f32 but its square is not.
+    let path32 = PathBuilder::<f32, 2>::new(Pose::new(0.0, 0.0, 0.0))
+        .unwrap()
+        .push(Segment::line(10.0).unwrap())
+        .unwrap()
+        .build()
+        .unwrap();
+    let mut t32 = Tracker::new(TrackerConfig::<f32>::field()).unwrap();
+    assert_eq!(
+        t32.update(&path32, &Pose::new(3.0e38, -3.0e38, 0.0)),
+        Err(TrackError::OutOfRange)
+    );
+    // The largest accepted position still gives finite errors in f32.
+    let r = t32.update(&path32, &Pose::new(1.9e7, -1.9e7, 0.0)).unwrap();
+    assert!(r.cross_track.is_finite() && r.station.is_finite());
 }
