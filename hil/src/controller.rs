@@ -82,7 +82,7 @@ pub fn convert_path<T: Real>(host: &HostPath) -> anyhow::Result<Path<T, MAX_SEGM
 /// If the core refuses a value (the field is named).
 pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
     let f = T::from_f64;
-    let vehicle = match *v {
+    match *v {
         VehicleSpec::Bicycle {
             wheelbase_m,
             max_steer_deg,
@@ -93,23 +93,24 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
             max_decel_m_s2,
             steer_lag_s,
             ..
-        } => Vehicle::front_steered(
-            f(wheelbase_m),
-            f(max_steer_deg.to_radians()),
-            f(max_steer_rate_deg_s.to_radians()),
-        )
-        .map_err(steer_err("vehicle"))?
-        .with_control_point(f(control_point_ahead_m))
-        .map_err(steer_err("vehicle.control_point_ahead_m"))?
-        .with_max_speed(f(max_speed_m_s))
-        .map_err(steer_err("vehicle.max_speed_m_s"))?
-        .with_max_lateral_acceleration(f(max_lateral_accel_m_s2))
-        .map_err(steer_err("vehicle.max_lateral_accel_m_s2"))?
-        .with_max_deceleration(f(max_decel_m_s2))
-        .map_err(steer_err("vehicle.max_decel_m_s2"))?
-        // The firmware is configured with the actuator's measured lag.
-        .with_steer_lag(f(steer_lag_s))
-        .map_err(steer_err("vehicle.steer_lag_s"))?,
+        } => {
+            let base = Vehicle::front_steered(
+                f(wheelbase_m),
+                f(max_steer_deg.to_radians()),
+                f(max_steer_rate_deg_s.to_radians()),
+            )
+            .map_err(steer_err("vehicle"))?
+            // The firmware is configured with the actuator's measured lag.
+            .with_steer_lag(f(steer_lag_s))
+            .map_err(steer_err("vehicle.steer_lag_s"))?;
+            with_limits(
+                base,
+                control_point_ahead_m,
+                max_speed_m_s,
+                max_lateral_accel_m_s2,
+                max_decel_m_s2,
+            )
+        }
         VehicleSpec::Differential {
             track_width_m,
             max_speed_m_s,
@@ -119,12 +120,34 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
             max_lateral_accel_m_s2,
             max_decel_m_s2,
             ..
-        } => Vehicle::differential(
-            f(track_width_m),
-            f(max_curvature_per_m),
-            f(max_curvature_rate_per_m_s),
-        )
-        .map_err(steer_err("vehicle"))?
+        } => {
+            let base = Vehicle::differential(
+                f(track_width_m),
+                f(max_curvature_per_m),
+                f(max_curvature_rate_per_m_s),
+            )
+            .map_err(steer_err("vehicle"))?;
+            with_limits(
+                base,
+                control_point_ahead_m,
+                max_speed_m_s,
+                max_lateral_accel_m_s2,
+                max_decel_m_s2,
+            )
+        }
+    }
+}
+
+/// The limits both chassis kinds share, each error naming its field.
+fn with_limits<T: Real>(
+    vehicle: Vehicle<T>,
+    control_point_ahead_m: f64,
+    max_speed_m_s: f64,
+    max_lateral_accel_m_s2: f64,
+    max_decel_m_s2: f64,
+) -> anyhow::Result<Vehicle<T>> {
+    let f = T::from_f64;
+    vehicle
         .with_control_point(f(control_point_ahead_m))
         .map_err(steer_err("vehicle.control_point_ahead_m"))?
         .with_max_speed(f(max_speed_m_s))
@@ -132,9 +155,7 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
         .with_max_lateral_acceleration(f(max_lateral_accel_m_s2))
         .map_err(steer_err("vehicle.max_lateral_accel_m_s2"))?
         .with_max_deceleration(f(max_decel_m_s2))
-        .map_err(steer_err("vehicle.max_decel_m_s2"))?,
-    };
-    Ok(vehicle)
+        .map_err(steer_err("vehicle.max_decel_m_s2"))
 }
 
 fn supervisor_of<T: Real>(s: &Scenario, vehicle: &Vehicle<T>) -> SupervisorConfig<T> {
