@@ -395,17 +395,16 @@ impl<T: Real> Tracker<T> {
         // (from the offset curve) says whether it is off the path.
         let lost = self.config.lost_distance;
         let beside = lateral - offset;
-        let off_path = match status {
-            // Offset 0: the squared distance to the foot, as found.
-            TrackStatus::OnPath if !beyond_cusp(path, &foot, along) && offset == T::ZERO => {
-                foot.dist2 > lost * lost
-            }
+        let on_a_leg = status == TrackStatus::OnPath && !beyond_cusp(path, &foot, along);
+        let off_path = if !on_a_leg {
+            beside.abs() > lost
+        } else if offset == T::ZERO {
+            // The squared distance to the foot, as found.
+            foot.dist2 > lost * lost
+        } else {
             // The point of the offset curve beside the foot lies `offset`
             // along the normal; `along` is nonzero only at a window edge.
-            TrackStatus::OnPath if !beyond_cusp(path, &foot, along) => {
-                along * along + beside * beside > lost * lost
-            }
-            _ => beside.abs() > lost,
+            along * along + beside * beside > lost * lost
         };
         if off_path {
             status = TrackStatus::Lost;
