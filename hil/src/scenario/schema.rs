@@ -475,20 +475,21 @@ pub struct TrackerSpec {
     pub heading_weight_m: f64,
 }
 
+// Tracker defaults are the core's field defaults (`TrackerConfig::field`).
 fn d_back() -> f64 {
-    1.0
+    kappaline::TrackerConfig::<f64>::field().window_back
 }
 fn d_ahead() -> f64 {
-    3.0
+    kappaline::TrackerConfig::<f64>::field().window_ahead
 }
 fn d_lost() -> f64 {
-    2.0
+    kappaline::TrackerConfig::<f64>::field().lost_distance
 }
 fn d_look() -> f64 {
-    3.0
+    kappaline::TrackerConfig::<f64>::field().lookahead
 }
 fn d_hw() -> f64 {
-    1.0
+    kappaline::TrackerConfig::<f64>::field().heading_weight
 }
 
 impl Default for TrackerSpec {
