@@ -380,6 +380,9 @@ pub struct Guidance<T: Real, L> {
     last_now: Option<T>,
     /// Consecutive cycles with `now` going backwards.
     backwards: u32,
+    /// Estimate of the body curvature actually driven, 1/m: the commands
+    /// through the actuator's first-order lag (`Vehicle::steer_lag`).
+    driven: T,
 }
 
 /// Where the control point is, found during one cycle.
@@ -418,6 +421,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             saturated: false,
             last_now: None,
             backwards: 0,
+            driven: T::ZERO,
         })
     }
 
@@ -494,7 +498,10 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         }
         self.backwards = 0;
         self.last_now = Some(now);
-        let verdict = self.monitor.check(input.fix.as_ref(), now, &self.config);
+        self.track_driven_curvature(dt);
+        let verdict = self
+            .monitor
+            .check(input.fix.as_ref(), now, &self.config, self.driven);
         match (self.mode, verdict) {
             (Mode::EndOfPath, _) => self.hold(GuidanceStatus::EndOfPath, true),
             (Mode::Acquiring, Verdict::Usable(f) | Verdict::Jumped(f)) => {
@@ -750,6 +757,18 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             status,
             tracking,
         }
+    }
+
+    /// Moves the driven-curvature estimate one period `dt` (s) towards the
+    /// last command, through the actuator lag (first order). It is what the
+    /// vehicle turned with while the fix was on its way, for the latency
+    /// compensation.
+    fn track_driven_curvature(&mut self, dt: T) {
+        let tau = self.vehicle.steer_lag();
+        let target = self.limiter.hold().curvature;
+        let gain = dt / (tau + dt);
+        let next = self.driven + (target - self.driven) * gain;
+        self.driven = if next.is_finite() { next } else { target };
     }
 
     /// Dead reckoning in station while fixes are missing: moves the

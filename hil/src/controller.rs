@@ -119,6 +119,7 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
             control_point_ahead_m,
             max_lateral_accel_m_s2,
             max_decel_m_s2,
+            wheel_lag_s,
             ..
         } => {
             let base = Vehicle::differential(
@@ -126,7 +127,10 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
                 f(max_curvature_per_m),
                 f(max_curvature_rate_per_m_s),
             )
-            .map_err(steer_err("vehicle"))?;
+            .map_err(steer_err("vehicle"))?
+            // The wheels' lag is the lag of the curvature they drive.
+            .with_steer_lag(f(wheel_lag_s))
+            .map_err(steer_err("vehicle.wheel_lag_s"))?;
             with_limits(
                 base,
                 control_point_ahead_m,
