@@ -602,7 +602,10 @@ fn check_input<T: Real>(pose: &Pose<T>, offset: T) -> Result<(), TrackError> {
     if !pose.is_finite() || !offset.is_finite() {
         return Err(TrackError::NonFinite);
     }
-    let far = |v: T| !crate::path::within_plane(T::HALF.to_f64() * v.to_f64());
+    // In `T`: on an `f32` target, `f64` arithmetic here would be soft-float
+    // on the per-cycle path.
+    let limit: T = c(2.0 * crate::MAX_COORDINATE);
+    let far = |v: T| v.abs() > limit;
     if far(pose.x) || far(pose.y) || far(offset) {
         return Err(TrackError::OutOfRange);
     }
