@@ -82,7 +82,8 @@ pub fn convert_path<T: Real>(host: &HostPath) -> anyhow::Result<Path<T, MAX_SEGM
 /// If the core refuses a value (the field is named).
 pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
     let f = T::from_f64;
-    match *v {
+    // The chassis with its actuator lag, then the limits both kinds share.
+    let (base, shared) = match *v {
         VehicleSpec::Bicycle {
             wheelbase_m,
             max_steer_deg,
@@ -93,8 +94,8 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
             max_decel_m_s2,
             steer_lag_s,
             ..
-        } => {
-            let base = Vehicle::front_steered(
+        } => (
+            Vehicle::front_steered(
                 f(wheelbase_m),
                 f(max_steer_deg.to_radians()),
                 f(max_steer_rate_deg_s.to_radians()),
@@ -102,15 +103,14 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
             .map_err(steer_err("vehicle"))?
             // The firmware is configured with the actuator's measured lag.
             .with_steer_lag(f(steer_lag_s))
-            .map_err(steer_err("vehicle.steer_lag_s"))?;
-            with_limits(
-                base,
+            .map_err(steer_err("vehicle.steer_lag_s"))?,
+            (
                 control_point_ahead_m,
                 max_speed_m_s,
                 max_lateral_accel_m_s2,
                 max_decel_m_s2,
-            )
-        }
+            ),
+        ),
         VehicleSpec::Differential {
             track_width_m,
             max_speed_m_s,
@@ -121,8 +121,8 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
             max_decel_m_s2,
             wheel_lag_s,
             ..
-        } => {
-            let base = Vehicle::differential(
+        } => (
+            Vehicle::differential(
                 f(track_width_m),
                 f(max_curvature_per_m),
                 f(max_curvature_rate_per_m_s),
@@ -130,16 +130,17 @@ pub fn vehicle_of<T: Real>(v: &VehicleSpec) -> anyhow::Result<Vehicle<T>> {
             .map_err(steer_err("vehicle"))?
             // The wheels' lag is the lag of the curvature they drive.
             .with_steer_lag(f(wheel_lag_s))
-            .map_err(steer_err("vehicle.wheel_lag_s"))?;
-            with_limits(
-                base,
+            .map_err(steer_err("vehicle.wheel_lag_s"))?,
+            (
                 control_point_ahead_m,
                 max_speed_m_s,
                 max_lateral_accel_m_s2,
                 max_decel_m_s2,
-            )
-        }
-    }
+            ),
+        ),
+    };
+    let (control_point, max_speed, max_lateral_accel, max_decel) = shared;
+    with_limits(base, control_point, max_speed, max_lateral_accel, max_decel)
 }
 
 /// The limits both chassis kinds share, each error naming its field.
