@@ -26,7 +26,7 @@ fn demo_path() -> Result<Path<f32, 16>, kappaline::PathError> {
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
     let path = demo_path()?;
-    let mut tracker = Tracker::new(TrackerConfig::field())?;
+    let mut tracker = Tracker::new(TrackerConfig::tractor())?;
     let mut cursor = kappaline::Cursor::start();
     let speed = 2.0f32; // m/s
     let dt = 0.1f32; // 10 Hz

@@ -14,7 +14,7 @@
 //!     .push(Segment::arc(core::f32::consts::PI * 6.0, 1.0 / 6.0)?)?
 //!     .push(Segment::line(40.0)?)?
 //!     .build()?;
-//! let mut tracker = Tracker::new(TrackerConfig::field())?;
+//! let mut tracker = Tracker::new(TrackerConfig::tractor())?;
 //! let t = tracker.update(&path, &Pose::new(12.0, -0.3, 0.05))?;
 //! assert!((t.station - 12.0).abs() < 1e-4);
 //! assert!((t.cross_track + 0.3).abs() < 1e-4); // right of the path: negative
@@ -67,72 +67,40 @@
     allow(clippy::unwrap_used, clippy::indexing_slicing, clippy::panic)
 )]
 
-// The path and where the vehicle is on it.
-mod complex;
-mod cursor;
-mod error;
-pub mod fresnel;
-mod path;
-mod pose;
-mod project;
-mod real;
-mod segment;
-mod tracker;
-#[cfg_attr(feature = "fast-math", allow(dead_code))]
-mod trig;
-
-// Building paths.
-mod corner;
-mod feasibility;
-mod fit;
-mod geodesy;
-mod headland;
-mod lever_arm;
-mod passes;
-
-// Steering.
-pub mod guidance;
-mod limits;
-mod speed;
+// The layers, lowest first. A layer uses only the layers above it in this
+// list (`.ci/layers` checks it); one control cycle runs
+// num -> path -> track -> steer -> guide, with io at the edges.
+pub mod build;
+pub mod geo;
+pub mod guide;
+pub mod io;
+pub mod num;
+pub mod path;
 pub mod steer;
-pub mod supervisor;
-mod vehicle;
+pub mod track;
 
-pub use cursor::{Cursor, Travel};
-pub use error::{PathError, TrackError};
-pub use fresnel::{fresnel, generalized_fresnel};
-pub use path::{AnchoredSegment, Continuity, Path, PathBuilder, MAX_COORDINATE};
-pub use pose::{Direction, PathPoint, Pose};
-pub use real::Real;
-pub use segment::{Segment, SegmentKind};
-pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS};
+pub use build::*;
+pub use geo::*;
+pub use guide::{
+    Command, Fix, Guidance, GuidanceInput, GuidanceStatus, SupervisorConfig,
+    FAULT_CYCLES_TO_RESTART, PROJECTION_STEPS,
+};
+pub use num::*;
+pub use path::{
+    fresnel, generalized_fresnel, AnchoredSegment, Continuity, Cursor, Direction, Path,
+    PathBuilder, PathError, PathPoint, Pose, Segment, SegmentKind, Travel, MAX_COORDINATE,
+};
+pub use steer::{
+    local_speed_limit, speed_cap, Chassis, FrenetFeedback, Limited, PurePursuit, Stanley,
+    SteerError, SteerLimiter, SteeringInput, SteeringLaw, Vehicle, SPEED_SCAN_SEGMENTS,
+};
+pub use track::*;
 
-pub use corner::{corner_path, Corner, CornerConfig, CornerError, TurnShape};
-pub use feasibility::{check_path, FeasibilityReport, PathLimits, Violation, ViolationKind};
-pub use fit::{
-    clothoid_spline, estimate_headings, fit_g1, fresnel_moments, FitError, G1Fit, Waypoint,
-    MAX_NEWTON_STEPS,
-};
-pub use geodesy::{
-    Ecef, Enu, GeoError, Geodetic, LocalFrame, WGS84_A, WGS84_B, WGS84_E2, WGS84_F, WGS84_INV_F,
-};
-pub use headland::{
-    FieldEnd, HeadlandError, HeadlandTurn, TurnKind, TurnPolicy, MAX_TURN_SEGMENTS,
-};
-pub use lever_arm::{control_point, ControlPoint, LeverArm, LeverArmError};
-pub use passes::{
-    offset_curvature, reversed_path, Pass, PassError, PassPoint, PassTracking, Passes, Side,
-};
-
-pub use guidance::{
-    Command, Fix, Guidance, GuidanceInput, GuidanceStatus, FAULT_CYCLES_TO_RESTART,
-    PROJECTION_STEPS,
-};
-pub use limits::{Limited, SteerLimiter};
-pub use speed::{local_speed_limit, speed_cap, SPEED_SCAN_SEGMENTS};
-pub use steer::{FrenetFeedback, PurePursuit, Stanley, SteerError, SteeringInput, SteeringLaw};
-pub use supervisor::SupervisorConfig;
-pub use vehicle::{Chassis, Vehicle};
+// The module paths of earlier releases, kept so code written against them
+// still compiles (`kappaline::fresnel` is the module and the function, as
+// before, through the `path` re-export above).
+#[doc(hidden)]
+pub use guide::{guidance, supervisor};
 
 /// The README's example is compiled and run as a doctest.
 #[cfg(doctest)]

@@ -35,7 +35,7 @@ proptest! {
         let r = reference();
         let pass = Passes::new(4.5).unwrap().pass(n);
         let q = pass.point(&r, s).unwrap();
-        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
         let (tr, on) = pass.update(&mut t, &r, &q.pose()).unwrap();
         prop_assert_eq!(tr.status, TrackStatus::OnPath);
         prop_assert!(on.cross_track.abs() < 1e-9, "cross-track {}", on.cross_track);

@@ -275,7 +275,7 @@ fn cursor() {
 }
 
 fn configs_with(b: f64) -> [TrackerConfig<f64>; 5] {
-    let f = TrackerConfig::field();
+    let f = TrackerConfig::tractor();
     [
         TrackerConfig {
             window_back: b,
@@ -308,7 +308,7 @@ fn tracker_config() {
         assert_eq!(Tracker::new(cfg).err(), Some(TrackError::OutOfRange));
     }
     // Zero is refused where the value must be positive.
-    let f = TrackerConfig::<f64>::field();
+    let f = TrackerConfig::<f64>::tractor();
     assert_eq!(
         Tracker::new(TrackerConfig {
             window_ahead: 0.0,
@@ -345,7 +345,7 @@ fn tracker_config() {
 #[test]
 fn tracker_updates() {
     let path = good_builder().build().unwrap();
-    let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
     for b in BAD {
         for pose in [
             Pose::new(b, 2.0, 0.0),
@@ -393,7 +393,7 @@ fn tracker_updates() {
         assert_eq!(t.acquire(&path, &q), Err(TrackError::OutOfRange));
         assert_eq!(t, before);
     }
-    let mut fresh = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut fresh = Tracker::new(TrackerConfig::tractor()).unwrap();
     let r = fresh.update(&path, &Pose::new(3.0, 2.0, 1e300)).unwrap();
     assert!(r.heading_error.is_finite() && r.cross_track.is_finite());
     // f32: 3e38 is finite in f32 but its square is not.
@@ -403,7 +403,7 @@ fn tracker_updates() {
         .unwrap()
         .build()
         .unwrap();
-    let mut t32 = Tracker::new(TrackerConfig::<f32>::field()).unwrap();
+    let mut t32 = Tracker::new(TrackerConfig::<f32>::tractor()).unwrap();
     assert_eq!(
         t32.update(&path32, &Pose::new(3.0e38, -3.0e38, 0.0)),
         Err(TrackError::OutOfRange)

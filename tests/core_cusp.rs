@@ -16,7 +16,7 @@ fn there_and_back() -> kappaline::Path<f64, 4> {
 #[test]
 fn reversing_over_the_same_line_stays_on_the_reverse_leg() {
     let path = there_and_back();
-    let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
     // Forwards to the cusp at x = 20 (station 20).
     let mut x = 15.0;
     while x < 19.95 {
@@ -53,7 +53,7 @@ fn overrunning_a_cusp_is_not_a_loss() {
     // farther from the cusp point than `lost_distance` (2 m), but only
     // 0.1 m off the line it is on.
     let path = there_and_back();
-    let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
     let mut x = 17.0;
     while x < 22.5 {
         let r = t

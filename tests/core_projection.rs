@@ -17,7 +17,7 @@ fn config() -> TrackerConfig<f64> {
     TrackerConfig {
         heading_weight: 0.0,
         lost_distance: 1e3,
-        ..TrackerConfig::field()
+        ..TrackerConfig::tractor()
     }
 }
 

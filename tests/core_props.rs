@@ -68,7 +68,7 @@ fn any_path() -> impl Strategy<Value = Path<f64, N>> {
 fn exact_config() -> TrackerConfig<f64> {
     TrackerConfig {
         heading_weight: 0.0,
-        ..TrackerConfig::field()
+        ..TrackerConfig::tractor()
     }
 }
 
@@ -112,7 +112,7 @@ proptest! {
     fn heading_error_is_wrapped(path in any_path(), frac in 0.0f64..1.0, h in heading(), d in -1.5f64..1.5) {
         let p = path.at(frac * path.length());
         let q = Pose::new(p.x - d * p.sin, p.y + d * p.cos, h);
-        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
         let r = t.update(&path, &q).unwrap();
         let pi = core::f64::consts::PI;
         prop_assert!(r.heading_error > -pi && r.heading_error <= pi, "{}", r.heading_error);

@@ -67,7 +67,7 @@ fn pass_of(s: f64) -> Option<usize> {
 fn drive_pass<T: kappaline::Real>(n: usize, noise: f64, step: f64, seed: u64) -> f64 {
     let path = field::<T>();
     let mut rng = Lcg(seed);
-    let mut tracker = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut tracker = Tracker::new(TrackerConfig::tractor()).unwrap();
     let y = n as f64 * SWATH;
     let dir = if n % 2 == 0 { 1.0 } else { -1.0 };
     let heading = if n % 2 == 0 { 0.0 } else { PI };
@@ -139,7 +139,7 @@ fn keeps_its_pass_when_nearer_the_neighbour() {
     // is on pass 3, but the windowed tracker stays on pass 2.
     let path = field::<f64>();
     let n = 2;
-    let mut tracker = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut tracker = Tracker::new(TrackerConfig::tractor()).unwrap();
     tracker
         .update(&path, &Pose::new(10.0, n as f64 * SWATH, 0.0))
         .unwrap();
@@ -160,7 +160,7 @@ fn keeps_its_pass_when_nearer_the_neighbour() {
     // tracker without a window would do) lands on pass 3.
     let mut fresh = Tracker::new(TrackerConfig {
         heading_weight: 0.0,
-        ..TrackerConfig::field()
+        ..TrackerConfig::tractor()
     })
     .unwrap();
     let t = fresh
@@ -175,7 +175,7 @@ fn follows_the_whole_field_through_the_headlands() {
     // reported station follows the true one.
     let path = field::<f64>();
     let mut rng = Lcg(9);
-    let mut tracker = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut tracker = Tracker::new(TrackerConfig::tractor()).unwrap();
     let mut s = 0.0;
     let mut worst = 0.0f64;
     while s <= path.length() {
@@ -229,7 +229,7 @@ fn figure_eight_stays_on_its_branch() {
     assert!(p.x.hypot(p.y) < 1e-12);
     for (noise, seed) in [(0.0, 5), (1.4, 6), (1.4, 7)] {
         let mut rng = Lcg(seed);
-        let mut tracker = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut tracker = Tracker::new(TrackerConfig::tractor()).unwrap();
         // Three laps in 0.4 m steps.
         let mut s = 0.0;
         while s < 3.0 * len {
@@ -267,7 +267,7 @@ fn single_arc_closed_circle_window_wraps() {
         .close(Continuity::DEFAULT)
         .unwrap();
     let len = path.length();
-    let mut tracker = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut tracker = Tracker::new(TrackerConfig::tractor()).unwrap();
     let mut s = 0.0;
     while s < 3.0 * len {
         let p = path.at(s);
@@ -301,7 +301,7 @@ fn many_short_segments_keep_the_foot_in_the_window() {
     let cfg = TrackerConfig {
         window_back: 3.0,
         window_ahead: 3.0,
-        ..TrackerConfig::field()
+        ..TrackerConfig::tractor()
     };
     let mut tracker = Tracker::new(cfg).unwrap();
     let mut s = 0.0;
@@ -322,7 +322,7 @@ fn many_short_segments_keep_the_foot_in_the_window() {
 #[test]
 fn ends_of_open_paths_and_loss() {
     let path = field::<f64>();
-    let mut tracker = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut tracker = Tracker::new(TrackerConfig::tractor()).unwrap();
     // 0.8 m before the start, 0.2 m left: BeforeStart, station -0.8.
     let t = tracker.update(&path, &Pose::new(-0.8, 0.2, 0.0)).unwrap();
     assert_eq!(t.status, TrackStatus::BeforeStart);
@@ -337,7 +337,7 @@ fn ends_of_open_paths_and_loss() {
     assert_eq!(tracker, before);
     // Past the end of the last pass.
     let end = path.end_pose();
-    let mut t2 = Tracker::new(TrackerConfig::field()).unwrap();
+    let mut t2 = Tracker::new(TrackerConfig::tractor()).unwrap();
     let q = Pose::new(
         end.x + 1.0 * end.heading.cos(),
         end.y + 1.0 * end.heading.sin(),

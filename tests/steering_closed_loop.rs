@@ -78,7 +78,7 @@ fn one<L: SteeringLaw<f64>>(
     length: f64,
 ) -> Figures {
     let sup = SupervisorConfig::default_for(&vehicle);
-    let mut g = Guidance::new(vehicle, law, TrackerConfig::field(), sup).unwrap();
+    let mut g = Guidance::new(vehicle, law, TrackerConfig::tractor(), sup).unwrap();
     // Start: path point at station 0 (origin, heading 0), offset d0 to the
     // left, heading error th0.
     let mut sim = Sim::new(&vehicle, 0.0, d0, th0, 2.0);
@@ -212,7 +212,7 @@ fn sweep_at<L: SteeringLaw<f64> + Clone>(
             };
             let tracker = TrackerConfig {
                 lost_distance: 3.0,
-                ..TrackerConfig::field()
+                ..TrackerConfig::tractor()
             };
             let mut g = Guidance::new(vehicle, law.clone(), tracker, sup).unwrap();
             let mut sim = Sim::new(&vehicle, 0.0, d0, th0, speed);
@@ -327,7 +327,7 @@ fn arc_steady<L: SteeringLaw<f64>>(
     length: f64,
 ) -> (f64, f64) {
     let sup = SupervisorConfig::default_for(&vehicle);
-    let mut g = Guidance::new(vehicle, law, TrackerConfig::field(), sup).unwrap();
+    let mut g = Guidance::new(vehicle, law, TrackerConfig::tractor(), sup).unwrap();
     let mut sim = Sim::new(&vehicle, 0.0, 1.0, 0.2, 2.0);
     sim.side_slip = slip;
     let samples = run(&mut sim, &mut g, &straight(), length, 400.0);
@@ -368,7 +368,7 @@ fn stanley_as_published_puts_the_front_axle_on_the_arc() {
     let v = tractor();
     let sup = SupervisorConfig::default_for(&v);
     let law = Stanley::tractor().with_rear_offset(false);
-    let mut g = Guidance::new(v, law, TrackerConfig::field(), sup).unwrap();
+    let mut g = Guidance::new(v, law, TrackerConfig::tractor(), sup).unwrap();
     let mut sim = Sim::new(&v, 0.0, 0.0, 0.0, 2.0);
     let samples = run(&mut sim, &mut g, &arc(), 120.0, 200.0);
     let (x, y) = samples.last().unwrap().cp;
@@ -405,7 +405,7 @@ fn speed_cap_slows_before_a_tight_turn() {
         .build()
         .unwrap();
     let sup = SupervisorConfig::default_for(&v);
-    let mut g = Guidance::new(v, FrenetFeedback::tractor(), TrackerConfig::field(), sup).unwrap();
+    let mut g = Guidance::new(v, FrenetFeedback::tractor(), TrackerConfig::tractor(), sup).unwrap();
     let mut sim = Sim::new(&v, 0.0, 0.0, 0.0, 4.0);
     let samples = run(&mut sim, &mut g, &path, 80.0, 200.0);
     check_limits(&samples, &v, sim.dt);
@@ -453,14 +453,14 @@ fn f32_guidance_matches_f64() {
     let mut g32 = Guidance::new(
         v32,
         FrenetFeedback::<f32>::tractor(),
-        TrackerConfig::field(),
+        TrackerConfig::tractor(),
         SupervisorConfig::default_for(&v32),
     )
     .unwrap();
     let mut g64 = Guidance::new(
         v64,
         FrenetFeedback::<f64>::tractor(),
-        TrackerConfig::field(),
+        TrackerConfig::tractor(),
         SupervisorConfig::default_for(&v64),
     )
     .unwrap();

@@ -100,7 +100,7 @@ fn first_command<L: SteeringLaw<f64>>(
     let mut g = Guidance::new(
         vehicle,
         law,
-        TrackerConfig::field(),
+        TrackerConfig::tractor(),
         SupervisorConfig::default_for(&vehicle),
     )
     .unwrap();
@@ -246,7 +246,7 @@ fn differential_drive_command() {
     let mut g = Guidance::new(
         v,
         PurePursuit::small_robot(),
-        TrackerConfig::field(),
+        TrackerConfig::tractor(),
         SupervisorConfig::default_for(&v),
     )
     .unwrap();

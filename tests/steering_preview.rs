@@ -27,7 +27,7 @@ fn command_before_arc(lag: f64) -> f64 {
     let mut g = Guidance::new(
         v,
         FrenetFeedback::tractor(),
-        TrackerConfig::field(),
+        TrackerConfig::tractor(),
         SupervisorConfig::default_for(&v),
     )
     .unwrap();

@@ -106,7 +106,7 @@ fn reverse_run<L: SteeringLaw<f64>>(name: &str, law: L) {
         .build()
         .unwrap();
     let sup = SupervisorConfig::default_for(&vehicle);
-    let mut g = Guidance::new(vehicle, law, TrackerConfig::field(), sup).unwrap();
+    let mut g = Guidance::new(vehicle, law, TrackerConfig::tractor(), sup).unwrap();
     // 0.5 m left of the path, body turned 0.1 rad from pi.
     let mut sim = Sim::new(&vehicle, 0.0, 0.5, PI + 0.1, -1.5);
     let samples = run(&mut sim, &mut g, &path, 200.0, 120.0);
@@ -195,7 +195,7 @@ fn cusp_run<L: SteeringLaw<f64>>(name: &str, law: L) {
     let path = cusp_path();
     let cusp = 23.0;
     let sup = SupervisorConfig::default_for(&vehicle);
-    let mut g = Guidance::new(vehicle, law, TrackerConfig::field(), sup).unwrap();
+    let mut g = Guidance::new(vehicle, law, TrackerConfig::tractor(), sup).unwrap();
     let mut sim = Sim::new(&vehicle, 0.0, 0.3, 0.05, 1.5);
     let samples = run(&mut sim, &mut g, &path, 200.0, 200.0);
     check_limits(&samples, &vehicle, sim.dt);

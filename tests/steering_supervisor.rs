@@ -1,5 +1,5 @@
 //! Supervisor transitions, one test each (see the table in
-//! `src/supervisor.rs`), and a property test that no input sequence makes
+//! `src/guide/supervisor.rs`), and a property test that no input sequence makes
 //! the guidance output a non-finite value or break the steering limits.
 //! The expected commands come from the supervisor's documented contract
 //! (hold / straighten / stop); the limits from the vehicle description.
@@ -30,7 +30,7 @@ fn guidance() -> Guidance<f64, PurePursuit<f64>> {
     Guidance::new(
         v,
         PurePursuit::tractor(),
-        TrackerConfig::field(),
+        TrackerConfig::tractor(),
         SupervisorConfig::default_for(&v),
     )
     .unwrap()
@@ -222,13 +222,13 @@ fn window_coasts_through_a_dropout() {
     // 1.5 s without fixes at 2 m/s moves the vehicle 3 m, far beyond the
     // window. The guidance moves the window on by dead reckoning, so the
     // first fix after the gap is followed, not lost. (Contract of
-    // `Guidance`: Degraded holds and coasts; see src/guidance.rs.)
+    // `Guidance`: Degraded holds and coasts; see src/guide/guidance.rs.)
     let v = vehicle();
     let tracker = TrackerConfig {
         window_back: 0.5,
         window_ahead: 0.5,
         lost_distance: 0.5,
-        ..TrackerConfig::field()
+        ..TrackerConfig::tractor()
     };
     let supervisor = SupervisorConfig {
         hold_time: 2.0,
@@ -414,7 +414,7 @@ fn bad_time_is_a_fault_for_that_cycle() {
 fn a_fix_stamped_in_the_future_is_refused_and_forgotten() {
     // A receiver time glitch: one fix stamped 1e6 s ahead. It is not usable
     // (Degraded), and it must not poison the fix history: the next genuine
-    // fixes are followed again at once (contract: src/supervisor.rs, "A fix
+    // fixes are followed again at once (contract: src/guide/supervisor.rs, "A fix
     // is usable if ...").
     let mut d = Drive::new();
     let mut x = d.follow(10.0, 0.2, 10);

@@ -31,8 +31,8 @@
 //! error for the rear axle (a control point elsewhere on the body sits off
 //! the path by about `a^2 kappa / 2`).
 
-use crate::real::{c, Real};
-use crate::steer::{SteerError, SteeringInput, SteeringLaw};
+use crate::num::real::{c, Real};
+use crate::steer::law::{SteerError, SteeringInput, SteeringLaw};
 
 /// Pure pursuit with a speed-scheduled lookahead. See the module docs.
 ///
@@ -96,6 +96,18 @@ impl<T: Real> PurePursuit<T> {
             time: c(0.8),
             min: c(0.6),
             max: c(2.0),
+        }
+    }
+
+    /// A road vehicle at 5-15 m/s: `l = 3 m + 0.8 s * v`, within 5-15 m
+    /// (11 m at 10 m/s). A lookahead of about one second of travel is
+    /// common practice at road speeds; shorter ones oscillate.
+    pub fn road_vehicle() -> Self {
+        Self {
+            base: c(3.0),
+            time: c(0.8),
+            min: c(5.0),
+            max: c(15.0),
         }
     }
 }

@@ -52,9 +52,9 @@
 //! axle, which moves as a unicycle, that is exactly a forward-driven
 //! bicycle.
 
-use crate::real::{c, Real};
-use crate::steer::{SteerError, SteeringInput, SteeringLaw};
-use crate::vehicle::{atan, tan};
+use crate::num::real::{c, Real};
+use crate::steer::law::{SteerError, SteeringInput, SteeringLaw};
+use crate::steer::vehicle::{atan, tan};
 
 /// Largest angle the law computes with before `tan`, rad (80 degrees); the
 /// vehicle limiter then clips to the real steering range.
@@ -132,6 +132,19 @@ impl<T: Real> Stanley<T> {
             gain: c(2.5),
             softening: c(0.3),
             virtual_wheelbase: c(0.4),
+            rear_offset: true,
+        }
+    }
+
+    /// A road vehicle at 5-15 m/s: `k = 0.8 /s`, `k_soft = 2.0 m/s`,
+    /// virtual wheelbase 3.0 m: a softer pull than the tractor's, so that
+    /// an offset is taken out over some seconds of travel rather than a
+    /// wheelbase or two (common practice at road speeds).
+    pub fn road_vehicle() -> Self {
+        Self {
+            gain: c(0.8),
+            softening: c(2.0),
+            virtual_wheelbase: c(3.0),
             rear_offset: true,
         }
     }

@@ -110,7 +110,7 @@ fn measure_trig(syst: &mut SYST) {
 // Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
 #[inline(never)]
 fn drive<const N: usize>(syst: &mut SYST, path: &Path<f32, N>, label: &str) {
-    let mut tracker = match Tracker::new(TrackerConfig::field()) {
+    let mut tracker = match Tracker::new(TrackerConfig::tractor()) {
         Ok(t) => t,
         Err(_) => fail("config"),
     };
@@ -158,7 +158,7 @@ fn line_path(syst: &mut SYST) {
     };
     // Hand geometry: a point 0.25 m left of station 40 on a line at 0.3 rad.
     let (s, c) = (libm::sinf(0.3), libm::cosf(0.3));
-    let mut t = Tracker::new(TrackerConfig::field()).unwrap_or_else(|_| fail("cfg"));
+    let mut t = Tracker::new(TrackerConfig::tractor()).unwrap_or_else(|_| fail("cfg"));
     let r = t
         .update(
             &path,
@@ -183,7 +183,7 @@ fn arc_path(syst: &mut SYST) {
     };
     // Hand geometry: circle of radius 20 about (0, 20); the point (20, 20.5)
     // is a quarter turn round (station 10 pi), 0.5 m outside (to the right).
-    let mut t = Tracker::new(TrackerConfig::field()).unwrap_or_else(|_| fail("cfg"));
+    let mut t = Tracker::new(TrackerConfig::tractor()).unwrap_or_else(|_| fail("cfg"));
     let r = t
         .update(&path, &Pose::new(20.5, 20.0, PI / 2.0))
         .unwrap_or_else(|_| fail("arc update"));
@@ -274,7 +274,7 @@ fn guidance_with<L: SteeringLaw<f32>>(
     label: &str,
 ) {
     let supervisor = SupervisorConfig::default_for(&vehicle);
-    let mut g = Guidance::new(vehicle, law, TrackerConfig::field(), supervisor)
+    let mut g = Guidance::new(vehicle, law, TrackerConfig::tractor(), supervisor)
         .unwrap_or_else(|_| fail("guidance"));
     let dt = 0.1f32;
     let speed = 2.0f32;

@@ -475,21 +475,21 @@ pub struct TrackerSpec {
     pub heading_weight_m: f64,
 }
 
-// Tracker defaults are the core's field defaults (`TrackerConfig::field`).
+// Tracker defaults are the core's field defaults (`TrackerConfig::tractor`).
 fn d_back() -> f64 {
-    kappaline::TrackerConfig::<f64>::field().window_back
+    kappaline::TrackerConfig::<f64>::tractor().window_back
 }
 fn d_ahead() -> f64 {
-    kappaline::TrackerConfig::<f64>::field().window_ahead
+    kappaline::TrackerConfig::<f64>::tractor().window_ahead
 }
 fn d_lost() -> f64 {
-    kappaline::TrackerConfig::<f64>::field().lost_distance
+    kappaline::TrackerConfig::<f64>::tractor().lost_distance
 }
 fn d_look() -> f64 {
-    kappaline::TrackerConfig::<f64>::field().lookahead
+    kappaline::TrackerConfig::<f64>::tractor().lookahead
 }
 fn d_hw() -> f64 {
-    kappaline::TrackerConfig::<f64>::field().heading_weight
+    kappaline::TrackerConfig::<f64>::tractor().heading_weight
 }
 
 impl Default for TrackerSpec {

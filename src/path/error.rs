@@ -1,4 +1,5 @@
-//! Typed errors. Every fallible call leaves the state it was called on unchanged.
+//! Why a segment or path was refused. Every fallible call leaves the state
+//! it was called on unchanged.
 
 use core::fmt;
 
@@ -67,27 +68,3 @@ impl fmt::Display for PathError {
 }
 
 impl core::error::Error for PathError {}
-
-/// Why a tracker update or configuration was refused.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-#[non_exhaustive]
-pub enum TrackError {
-    /// The pose or a distance given is NaN or infinite.
-    NonFinite,
-    /// A configuration value is negative, zero where it must be positive, or
-    /// otherwise out of range; or a position beyond twice
-    /// [`crate::MAX_COORDINATE`].
-    OutOfRange,
-}
-
-impl fmt::Display for TrackError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
-            TrackError::NonFinite => f.write_str("non-finite input"),
-            TrackError::OutOfRange => f.write_str("configuration value out of range"),
-        }
-    }
-}
-
-impl core::error::Error for TrackError {}

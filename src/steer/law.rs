@@ -1,50 +1,10 @@
-//! Steering laws: the tracking state in, a curvature command out.
-//!
-//! Every law implements [`SteeringLaw`]. The [`crate::Guidance`] prepares a
-//! [`SteeringInput`] for it each control cycle and applies the vehicle's
-//! limits to the curvature it returns.
-//!
-//! # The travel frame
-//!
-//! Laws are written for a vehicle driving forwards. On a reverse segment the
-//! guidance hands them the **travel frame**: headings turned by pi (so the
-//! body's back is its "front"), the speed as a magnitude, body points
-//! measured along the direction of travel. The heading error and
-//! cross-track error of the core's [`crate::Tracking`] already are
-//! travel-frame errors (heading error against the body heading the path
-//! asks for, cross-track left of the path tangent). The rear axle moves as a
-//! unicycle, which is symmetric under this mirror: the body curvature is the
-//! law's curvature with the sign of the driving direction,
-//! `kappa_body = sign * kappa_travel`, so every law is as stable reversing
-//! as forwards *in the kinematic model* (real reversing adds tyre and
-//! hitch effects the model does not have).
-//!
-//! # Reference points
-//!
-//! A law names the body point it wants its errors at with
-//! [`SteeringLaw::reference_point`], in metres ahead of the rear axle along
-//! the direction of travel. The guidance projects that point onto the path
-//! (from the control point's tracking state, a bounded Newton iteration) and
-//! fills in [`SteeringInput`]. Pure pursuit and the Frenet law use the rear
-//! axle (0), Stanley the steered axle (`L` ahead; reversing, a virtual axle
-//! `L` behind the rear axle, see [`Stanley`]).
-//!
-//! Caution: these laws are not a certified safety function; keep an
-//! independent emergency stop and follow the applicable standards (e.g.
-//! ISO 25119, ISO 18497, ISO 3691-4, ISO 26262, IEC 61508).
+//! The steering-law interface: what a law sees each cycle and what it
+//! returns (see the [`crate::steer`] layer docs for the travel frame).
 
 use core::fmt;
 
-use crate::error::TrackError;
-use crate::real::Real;
-
-mod frenet;
-mod pure_pursuit;
-mod stanley;
-
-pub use frenet::FrenetFeedback;
-pub use pure_pursuit::PurePursuit;
-pub use stanley::Stanley;
+use crate::num::real::Real;
+use crate::track::error::TrackError;
 
 /// Why a vehicle, law, limiter or guidance configuration was refused.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -101,7 +61,7 @@ pub struct SteeringInput<T> {
     /// [`SteeringLaw::lookahead`] beyond the rear axle's station (on the
     /// tangent extension past a path end or a cusp), shifted to where the
     /// rear axle runs when the control point is on the path (see
-    /// [`crate::guidance`]).
+    /// [`crate::guide::guidance`]).
     pub goal: (T, T),
     /// The control point, metres ahead of the rear axle along the direction
     /// of travel (the vehicle's control point times the driving sign).

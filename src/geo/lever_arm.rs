@@ -28,7 +28,7 @@
 //! # Ok(()) }
 //! ```
 
-use crate::real::Real;
+use crate::num::real::Real;
 
 /// Why a lever-arm correction was refused.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -16,11 +16,11 @@
 
 use heapless::Vec;
 
-use crate::complex::Cplx;
-use crate::error::PathError;
-use crate::pose::{Direction, PathPoint, Pose};
-use crate::real::Real;
-use crate::segment::Segment;
+use crate::num::complex::Cplx;
+use crate::num::real::Real;
+use crate::path::error::PathError;
+use crate::path::pose::{Direction, PathPoint, Pose};
+use crate::path::segment::Segment;
 
 /// How far apart consecutive segments may be and still count as joined.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -567,7 +567,7 @@ impl<T: Real, const N: usize> Path<T, N> {
     /// The path point `u` metres into segment `index` (not clamped).
     pub(crate) fn eval_in(&self, index: usize, u: T) -> PathPoint<T> {
         let p = self.placed_at(index);
-        let lp = crate::segment::local_pose(p.kappa0, p.sigma, u);
+        let lp = crate::path::segment::local_pose(p.kappa0, p.sigma, u);
         let start = Cplx::new(p.cos, p.sin);
         let d = lp.offset * start;
         let t = lp.turn * start;

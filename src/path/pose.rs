@@ -5,7 +5,7 @@
 //! headings in radians measured counter-clockwise from `+x`, curvature in 1/m,
 //! positive when the path turns left (counter-clockwise).
 
-use crate::real::Real;
+use crate::num::real::Real;
 
 /// Which way the vehicle drives along a segment.
 ///

@@ -11,7 +11,7 @@
 //!    one driving direction; legs meet at cusps), in the travel frame;
 //! 4. the steering law, then the vehicle limits ([`SteerLimiter`]) and the
 //!    speed cap ([`speed_cap`]);
-//! 5. the supervisor's state machine (see [`crate::supervisor`]) choosing
+//! 5. the supervisor's state machine (see [`crate::guide::supervisor`]) choosing
 //!    between that command, hold, straighten and stop.
 //!
 //! # Driving direction and cusps
@@ -69,15 +69,16 @@
 //! emergency stop; the standards that apply to the machine (e.g. ISO 25119,
 //! ISO 18497, ISO 3691-4, ISO 26262, IEC 61508) decide what else it needs.
 
-use crate::limits::{Limited, SteerLimiter};
-use crate::path::Path;
-use crate::pose::{Direction, PathPoint, Pose};
-use crate::real::{c, Real};
-use crate::speed::speed_cap;
-use crate::steer::{SteerError, SteeringInput, SteeringLaw};
-use crate::supervisor::{FixMonitor, Mode, SupervisorConfig, Verdict};
-use crate::tracker::{TrackStatus, Tracker, TrackerConfig, Tracking};
-use crate::vehicle::Vehicle;
+use crate::guide::cycle::{Command, Fix, GuidanceInput, GuidanceStatus};
+use crate::guide::supervisor::{FixMonitor, Mode, SupervisorConfig, Verdict};
+use crate::num::real::{c, Real};
+use crate::path::anchored::Path;
+use crate::path::pose::{Direction, PathPoint, Pose};
+use crate::steer::law::{SteerError, SteeringInput, SteeringLaw};
+use crate::steer::limits::{Limited, SteerLimiter};
+use crate::steer::speed::speed_cap;
+use crate::steer::vehicle::{rear_axle_offset, Vehicle};
+use crate::track::tracker::{TrackStatus, Tracker, TrackerConfig, Tracking};
 
 /// Consecutive cycles with `now` going backwards after which the guidance
 /// takes the new time base and starts again in `Acquiring`.
@@ -88,94 +89,6 @@ pub const PROJECTION_STEPS: usize = 4;
 
 /// Largest Newton step of a projection, metres.
 const MAX_NEWTON_STEP: f64 = 5.0;
-
-/// A position fix of the control point.
-#[derive(Debug, Clone, Copy, PartialEq, Default)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct Fix<T> {
-    /// Control point, metres (lever-arm correction already applied).
-    pub x: T,
-    /// Control point, metres.
-    pub y: T,
-    /// Body heading, rad, counter-clockwise from `+x`.
-    pub heading: T,
-    /// Speed along the body axis, m/s, negative when reversing.
-    pub speed: T,
-    /// Time of the measurement, s (monotonic, same clock as `now`).
-    pub time: T,
-}
-
-/// One control cycle's input.
-#[derive(Debug, Clone, Copy, PartialEq, Default)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct GuidanceInput<T> {
-    /// The latest fix, if any arrived (repeating the last one is fine while
-    /// it is younger than `max_fix_age`).
-    pub fix: Option<Fix<T>>,
-    /// Time now, s.
-    pub now: T,
-    /// Control period, s (> 0).
-    pub dt: T,
-}
-
-/// What the guidance is doing, for the firmware to show and act on.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-#[non_exhaustive]
-pub enum GuidanceStatus {
-    /// Looking for the path; straightening and requesting a stop.
-    Acquiring,
-    /// Steering along the path.
-    Following,
-    /// Holding the last command for a short time (missing, stale, non-finite or jumped fix).
-    Degraded,
-    /// Off the path or without fixes for too long; straightening and requesting a stop.
-    Lost,
-    /// At the end of an open path; holding the steering and requesting a stop.
-    EndOfPath,
-    /// Invalid `now`/`dt`; holding the steering and requesting a stop.
-    Fault,
-}
-
-/// One cycle's command. Every field is finite.
-#[derive(Debug, Clone, Copy, PartialEq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct Command<T> {
-    /// Rear-axle curvature after limits, 1/m, positive left.
-    pub curvature: T,
-    /// Front-wheel angle, rad, positive left (0 for differential drive).
-    pub steer_angle: T,
-    /// Yaw rate, rad/s: `curvature * speed` with the last measured speed.
-    pub yaw_rate: T,
-    /// Wheel speeds `(left, right)`, m/s: differential drive at the last
-    /// measured speed clipped to `speed_limit`; `(v, v)` otherwise.
-    pub wheel_speeds: (T, T),
-    /// Speed limit, m/s (>= 0), from the curvature ahead and the limits; 0 requests a stop.
-    pub speed_limit: T,
-    /// The supervisor's status.
-    pub status: GuidanceStatus,
-    /// The control point's tracking state on the current leg, when known.
-    /// `foot.direction` is the direction to drive in.
-    pub tracking: Option<Tracking<T>>,
-}
-
-impl<T: Real> Command<T> {
-    fn is_finite(&self) -> bool {
-        let t_ok = self.tracking.is_none_or(|t| {
-            t.station.is_finite()
-                && t.cross_track.is_finite()
-                && t.heading_error.is_finite()
-                && t.curvature.is_finite()
-        });
-        self.curvature.is_finite()
-            && self.steer_angle.is_finite()
-            && self.yaw_rate.is_finite()
-            && self.wheel_speeds.0.is_finite()
-            && self.wheel_speeds.1.is_finite()
-            && self.speed_limit.is_finite()
-            && t_ok
-    }
-}
 
 /// A run of consecutive segments with one driving direction.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -288,15 +201,6 @@ fn extended_point<T: Real, const N: usize>(
     )
 }
 
-/// Where the rear axle runs, left of the path (m), when a control point `a`
-/// metres ahead of it is on an arc of curvature `kappa`: the concentric
-/// circle of radius `sqrt(R^2 - a^2)`, i.e.
-/// `kappa a^2 / (1 + sqrt(1 - kappa^2 a^2))` (plain geometry).
-pub(crate) fn rear_axle_offset<T: Real>(kappa: T, a: T) -> T {
-    let inside = (T::ONE - kappa * kappa * a * a).max(T::ZERO);
-    kappa * a * a / (T::ONE + inside.sqrt())
-}
-
 /// Projects `(qx, qy)` with travel heading `(sin, cos)` onto the leg,
 /// starting from station `guess`.
 fn project<T: Real, const N: usize>(
@@ -353,7 +257,7 @@ fn project<T: Real, const N: usize>(
 /// let mut g = Guidance::new(
 ///     vehicle,
 ///     PurePursuit::tractor(),
-///     TrackerConfig::field(),
+///     TrackerConfig::tractor(),
 ///     SupervisorConfig::default_for(&vehicle),
 /// )?;
 /// let fix = Fix { x: 10.0, y: 0.5, heading: 0.0, speed: 2.0, time: 0.0 };

@@ -10,8 +10,8 @@
 //! Caution: a command limiter is not a safety function; the machine's own
 //! actuator limits and an independent emergency stop stay in charge.
 
-use crate::real::Real;
-use crate::vehicle::{atan, tan, Chassis, Vehicle};
+use crate::num::real::Real;
+use crate::steer::vehicle::{atan, tan, Chassis, Vehicle};
 
 /// One limited command.
 #[derive(Debug, Clone, Copy, PartialEq)]

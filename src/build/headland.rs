@@ -49,14 +49,14 @@
 
 use heapless::Vec;
 
-use crate::corner::TurnShape;
-use crate::error::PathError;
-use crate::feasibility::PathLimits;
-use crate::passes::{PassError, Passes};
-use crate::path::{Path, PathBuilder};
-use crate::pose::Pose;
-use crate::real::Real;
-use crate::segment::Segment;
+use crate::build::corner::TurnShape;
+use crate::build::feasibility::PathLimits;
+use crate::build::passes::{PassError, Passes};
+use crate::num::real::Real;
+use crate::path::anchored::{Path, PathBuilder};
+use crate::path::error::PathError;
+use crate::path::pose::Pose;
+use crate::path::segment::Segment;
 
 /// Most segments any turn needs (three turn shapes, a straight and a stagger line).
 pub const MAX_TURN_SEGMENTS: usize = 11;

@@ -4,7 +4,7 @@
 //! most naturally written in complex form (`exp(i phi)` is a unit heading
 //! vector), and a rotation of a heading by an angle is a complex product.
 
-use crate::real::Real;
+use crate::num::real::Real;
 use core::ops::{Add, Mul, Sub};
 
 /// `re + i im`.

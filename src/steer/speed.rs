@@ -26,9 +26,9 @@
 //! infinite sharpness: no speed follows them exactly, so they are left to
 //! the steering-rate limiter and are not capped here.
 
-use crate::path::Path;
-use crate::real::{c, Real};
-use crate::vehicle::{Chassis, Vehicle};
+use crate::num::real::{c, Real};
+use crate::path::anchored::Path;
+use crate::steer::vehicle::{Chassis, Vehicle};
 
 /// Most segments the speed scan looks at per call.
 pub const SPEED_SCAN_SEGMENTS: usize = 24;

@@ -29,8 +29,8 @@
 //! a safety function. Keep an independent emergency stop and follow the
 //! applicable standards (e.g. ISO 25119, ISO 18497, ISO 3691-4, IEC 61508).
 
-use crate::real::{c, Real};
-use crate::steer::SteerError;
+use crate::num::real::{c, Real};
+use crate::steer::law::SteerError;
 
 /// The kind of chassis and its one geometric dimension.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -339,6 +339,15 @@ impl<T: Real> Vehicle<T> {
             Chassis::FrontSteered { .. } => (v, v),
         }
     }
+}
+
+/// Where the rear axle runs, left of the path (m), when a control point `a`
+/// metres ahead of it is on an arc of curvature `kappa`: the concentric
+/// circle of radius `sqrt(R^2 - a^2)`, i.e.
+/// `kappa a^2 / (1 + sqrt(1 - kappa^2 a^2))` (plain geometry).
+pub(crate) fn rear_axle_offset<T: Real>(kappa: T, a: T) -> T {
+    let inside = (T::ONE - kappa * kappa * a * a).max(T::ZERO);
+    kappa * a * a / (T::ONE + inside.sqrt())
 }
 
 #[cfg(test)]

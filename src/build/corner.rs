@@ -32,11 +32,11 @@
 
 use heapless::Vec;
 
-use crate::error::PathError;
-use crate::path::{Path, PathBuilder};
-use crate::pose::Pose;
-use crate::real::Real;
-use crate::segment::Segment;
+use crate::num::real::Real;
+use crate::path::anchored::{Path, PathBuilder};
+use crate::path::error::PathError;
+use crate::path::pose::Pose;
+use crate::path::segment::Segment;
 
 /// Below this (radians) a deflection counts as none: the vertex is dropped.
 const STRAIGHT: f64 = 1e-12;

@@ -11,13 +11,13 @@
 //! * arc: the chord form `u sinc(kappa u / 2) exp(i kappa u / 2)`, which needs
 //!   no division by a small curvature and is exact for any radius;
 //! * clothoid: `u J(sigma u^2, kappa0 u)` with the generalised Fresnel integral
-//!   `J` of [`crate::fresnel`].
+//!   `J` of [`crate::path::fresnel`].
 
-use crate::complex::Cplx;
-use crate::error::PathError;
-use crate::fresnel::clothoid_integral;
-use crate::pose::Direction;
-use crate::real::{c, Real};
+use crate::num::complex::Cplx;
+use crate::num::real::{c, Real};
+use crate::path::error::PathError;
+use crate::path::fresnel::clothoid_integral;
+use crate::path::pose::Direction;
 
 /// What shape a segment has.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]

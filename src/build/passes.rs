@@ -38,7 +38,7 @@
 //! let passes = Passes::new(6.0)?; // 6 m swath
 //! let pass = passes.pass(passes.next(0, Side::Left, 1)?); // skip one: pass 2
 //! assert_eq!(pass.index, 2);
-//! let mut tracker = Tracker::new(TrackerConfig::field())?;
+//! let mut tracker = Tracker::new(TrackerConfig::tractor())?;
 //! let (t, on_pass) = pass.update(&mut tracker, &reference, &Pose::new(50.0, 12.1, 0.0))?;
 //! assert_eq!(t.status, TrackStatus::OnPath); // on pass 2, 12 m from the reference
 //! assert!(tracker.is_acquired());
@@ -46,11 +46,12 @@
 //! # Ok(()) }
 //! ```
 
-use crate::path::{Path, PathBuilder};
-use crate::pose::{PathPoint, Pose};
-use crate::real::Real;
-use crate::tracker::{Tracker, Tracking};
-use crate::{error::PathError, segment::Segment};
+use crate::num::real::Real;
+use crate::path::anchored::{Path, PathBuilder};
+use crate::path::error::PathError;
+use crate::path::pose::{PathPoint, Pose};
+use crate::path::segment::Segment;
+use crate::track::tracker::{Tracker, Tracking};
 
 /// Why a pass cannot be formed or driven.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -607,7 +608,7 @@ mod tests {
         let r = curved();
         let pass = Passes::new(3.0).unwrap().pass(2);
         let q = pass.point(&r, 50.0).unwrap();
-        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
         let (tr, on) = pass.update(&mut t, &r, &q.pose()).unwrap();
         // 6 m from the reference, but on the pass: not lost.
         assert_eq!(tr.status, crate::TrackStatus::OnPath);
@@ -626,7 +627,7 @@ mod tests {
         let r = curved();
         let pass = Passes::new(3.0).unwrap().pass(3);
         pass.check(&r).unwrap();
-        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
         let mut last = f64::NEG_INFINITY;
         let steps = 350; // 0.2 m of reference station per step
         for i in 0..=steps {
@@ -655,7 +656,7 @@ mod tests {
         // from the origin) to plane coordinates.
         let (sn, cs) = 0.2f64.sin_cos();
         let at = |s: f64, d: f64| Pose::new(s * cs - d * sn, s * sn + d * cs, 0.2);
-        let mut t = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
         // 9 m left of the reference at station 10.
         let on_pass = at(10.0, 9.0);
         let tr = t.update_offset(&r, &on_pass, 9.0).unwrap();
@@ -663,7 +664,7 @@ mod tests {
         assert!((tr.station - 10.0).abs() < 1e-9);
         assert!((tr.cross_track - 9.0).abs() < 1e-9);
         // The same point is lost from a pass 3 m out (6 m away > 2 m)...
-        let mut u = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut u = Tracker::new(TrackerConfig::tractor()).unwrap();
         assert_eq!(
             u.update_offset(&r, &on_pass, 3.0).unwrap().status,
             crate::TrackStatus::Lost
@@ -676,11 +677,11 @@ mod tests {
         );
         // Beyond the start, the lateral offset from the pass decides.
         let before = at(-1.0, 9.5);
-        let mut v = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut v = Tracker::new(TrackerConfig::tractor()).unwrap();
         let tb = v.update_offset(&r, &before, 9.0).unwrap();
         assert_eq!(tb.status, crate::TrackStatus::BeforeStart);
         assert!((tb.station + 1.0).abs() < 1e-9 && (tb.cross_track - 9.5).abs() < 1e-9);
-        let mut w = Tracker::new(TrackerConfig::field()).unwrap();
+        let mut w = Tracker::new(TrackerConfig::tractor()).unwrap();
         assert_eq!(
             w.update_offset(&r, &at(-1.0, 12.0), 9.0).unwrap().status,
             crate::TrackStatus::Lost

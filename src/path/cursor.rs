@@ -13,10 +13,10 @@
 //! land within a few tenths of a millimetre of one 2 km step, where a plain
 //! sum drifts by centimetres.
 
-use crate::error::PathError;
-use crate::path::Path;
-use crate::pose::PathPoint;
-use crate::real::Real;
+use crate::num::real::Real;
+use crate::path::anchored::Path;
+use crate::path::error::PathError;
+use crate::path::pose::PathPoint;
 
 /// How many segment boundaries a lookahead walks before it switches to a
 /// binary search (keeps a long lookahead over tiny segments O(log N)).

@@ -42,13 +42,13 @@
 
 use heapless::Vec;
 
-use crate::complex::Cplx;
-use crate::error::PathError;
-use crate::fresnel::clothoid_integral;
-use crate::path::{Path, PathBuilder};
-use crate::pose::Pose;
-use crate::real::Real;
-use crate::segment::Segment;
+use crate::num::complex::Cplx;
+use crate::num::real::Real;
+use crate::path::anchored::{Path, PathBuilder};
+use crate::path::error::PathError;
+use crate::path::fresnel::clothoid_integral;
+use crate::path::pose::Pose;
+use crate::path::segment::Segment;
 
 /// Newton steps allowed before a fit is declared failed.
 pub const MAX_NEWTON_STEPS: u32 = 40;

@@ -43,8 +43,8 @@
 //! clothoids", Math. Methods Appl. Sci. 38(5)), with the large-`a` branch
 //! rewritten around the auxiliary functions.
 
-use crate::complex::Cplx;
-use crate::real::{c, Real};
+use crate::num::complex::Cplx;
+use crate::num::real::{c, Real};
 
 /// Below this `|x|` the power series is used.
 const SERIES_LIMIT: f64 = 1.5;

@@ -18,8 +18,8 @@
 //! The interval ends are always candidates, so the result is the nearest
 //! point on the closed interval, not merely a stationary point.
 
-use crate::path::{Path, Placed};
-use crate::real::{c, Real};
+use crate::num::real::{c, Real};
+use crate::path::anchored::{Path, Placed};
 
 /// At most this many pieces per clothoid interval (bounded cost). Enough for
 /// a turn of 200 rad (32 laps) in one interval at pi/4 per piece; beyond that

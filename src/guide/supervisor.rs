@@ -46,10 +46,10 @@
 //! function; keep an independent emergency stop and the machine's own
 //! safety functions (e.g. ISO 25119, ISO 18497, ISO 3691-4, IEC 61508).
 
-use crate::guidance::{Fix, GuidanceStatus};
-use crate::real::{c, Real};
-use crate::steer::SteerError;
-use crate::vehicle::Vehicle;
+use crate::guide::cycle::{Fix, GuidanceStatus};
+use crate::num::real::{c, Real};
+use crate::steer::law::SteerError;
+use crate::steer::vehicle::Vehicle;
 
 /// Supervisor limits. Times in seconds, distances in metres, angles in radians.
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -35,11 +35,11 @@
 
 use heapless::Vec;
 
-use crate::error::PathError;
-use crate::path::Path;
-use crate::pose::Direction;
-use crate::real::Real;
-use crate::vehicle::{Chassis, Vehicle};
+use crate::num::real::Real;
+use crate::path::anchored::Path;
+use crate::path::error::PathError;
+use crate::path::pose::Direction;
+use crate::steer::vehicle::{Chassis, Vehicle};
 
 /// A vehicle's limits as they bear on a path's shape.
 #[derive(Debug, Clone, Copy, PartialEq)]

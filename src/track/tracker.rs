@@ -33,12 +33,12 @@
 //! evaluation for the lookahead point and one `atan2` for the heading error.
 //! The work is bounded by [`MAX_WINDOW_SEGMENTS`] whatever the input.
 
-use crate::cursor::Cursor;
-use crate::error::TrackError;
-use crate::path::Path;
-use crate::pose::{Direction, PathPoint, Pose};
-use crate::project::{nearest_on_segment, Foot};
-use crate::real::{c, Real};
+use crate::num::real::{c, Real};
+use crate::path::anchored::Path;
+use crate::path::cursor::Cursor;
+use crate::path::pose::{Direction, PathPoint, Pose};
+use crate::path::project::{nearest_on_segment, Foot};
+use crate::track::error::TrackError;
 
 /// The projection window covers at most this many segments, half of them
 /// behind the last foot point and half ahead (its own segment counts on both
@@ -67,15 +67,40 @@ pub struct TrackerConfig<T> {
 }
 
 impl<T: Real> TrackerConfig<T> {
-    /// Defaults for a field machine at up to 5 m/s and 10 Hz or faster:
-    /// window 1 m back and 3 m ahead, lost at 2 m, lookahead 3 m, heading
-    /// weight 1 m/rad.
-    pub fn field() -> Self {
+    /// A field tractor at up to 5 m/s, 10 Hz or faster: window 1 m back and
+    /// 3 m ahead, lost at 2 m, lookahead 3 m, heading weight 1 m/rad.
+    pub fn tractor() -> Self {
         Self {
             window_back: c(1.0),
             window_ahead: c(3.0),
             lost_distance: c(2.0),
             lookahead: c(3.0),
+            heading_weight: c(1.0),
+        }
+    }
+
+    /// A small robot at up to 2 m/s, 20 Hz or faster, on a path with
+    /// corners of about 1 m radius: window 0.5 m back and 1 m ahead, lost at
+    /// 0.5 m, lookahead 0.8 m, heading weight 0.5 m/rad.
+    pub fn small_robot() -> Self {
+        Self {
+            window_back: c(0.5),
+            window_ahead: c(1.0),
+            lost_distance: c(0.5),
+            lookahead: c(0.8),
+            heading_weight: c(0.5),
+        }
+    }
+
+    /// A road vehicle at up to 15 m/s, 20 Hz or faster: window 2 m back and
+    /// 4 m ahead (0.75 m driven per cycle at 15 m/s leaves margin for a
+    /// late cycle), lost at 2 m, lookahead 8 m, heading weight 1 m/rad.
+    pub fn road_vehicle() -> Self {
+        Self {
+            window_back: c(2.0),
+            window_ahead: c(4.0),
+            lost_distance: c(2.0),
+            lookahead: c(8.0),
             heading_weight: c(1.0),
         }
     }
@@ -159,7 +184,7 @@ pub struct Tracking<T> {
 /// let path = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))?
 ///     .push(Segment::line(100.0)?)?
 ///     .build()?;
-/// let mut tracker = Tracker::new(TrackerConfig::field())?;
+/// let mut tracker = Tracker::new(TrackerConfig::tractor())?;
 /// // 0.25 m left of the path at station 40, heading 0.1 rad to the left.
 /// let t = tracker.update(&path, &Pose::new(40.0, 0.25, 0.1))?;
 /// assert_eq!(t.status, TrackStatus::OnPath);
@@ -604,7 +629,7 @@ fn check_input<T: Real>(pose: &Pose<T>, offset: T) -> Result<(), TrackError> {
     }
     // In `T`: on an `f32` target, `f64` arithmetic here would be soft-float
     // on the per-cycle path.
-    let limit: T = c(2.0 * crate::MAX_COORDINATE);
+    let limit: T = c(2.0 * crate::path::MAX_COORDINATE);
     let far = |v: T| v.abs() > limit;
     if far(pose.x) || far(pose.y) || far(offset) {
         return Err(TrackError::OutOfRange);

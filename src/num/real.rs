@@ -211,7 +211,7 @@ impl Real for f32 {
     #[cfg(not(feature = "fast-math"))]
     #[inline]
     fn sin_cos(self) -> (Self, Self) {
-        crate::trig::sin_cos_f32(self)
+        crate::num::trig::sin_cos_f32(self)
     }
     #[cfg(feature = "fast-math")]
     #[inline]

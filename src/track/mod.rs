@@ -1,0 +1,12 @@
+//! Tracking: where the vehicle is relative to the path, cycle after cycle.
+//!
+//! The [`Tracker`] keeps the last foot point, projects the control point
+//! inside a window around it and reports station, cross-track error,
+//! heading error, curvature at the foot and ahead, and a status. Uses
+//! [`crate::num`] and [`crate::path`].
+
+pub(crate) mod error;
+pub(crate) mod tracker;
+
+pub use error::TrackError;
+pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS};
