@@ -82,8 +82,8 @@ pub mod track;
 pub use build::*;
 pub use geo::*;
 pub use guide::{
-    Command, Fix, Guidance, GuidanceInput, GuidanceStatus, SupervisorConfig,
-    FAULT_CYCLES_TO_RESTART, PROJECTION_STEPS,
+    Command, Fix, FixQuality, FixUpdate, Guidance, GuidanceInput, GuidanceStatus, Micros, Reason,
+    Solution, SupervisorConfig, FAULT_CYCLES_TO_RESTART, MICROS_PER_SECOND, PROJECTION_STEPS,
 };
 pub use num::*;
 pub use path::{

@@ -470,28 +470,28 @@ fn f32_guidance_matches_f64() {
     let mut worst = 0.0f64;
     for _ in 0..1200 {
         let f = a.fix();
-        let fix32 = kappaline::Fix {
-            x: f.x as f32,
-            y: f.y as f32,
-            heading: f.heading as f32,
-            speed: f.speed as f32,
-            time: f.time as f32,
-        };
+        let fix32 = kappaline::Fix::new(
+            f.x as f32,
+            f.y as f32,
+            f.heading as f32,
+            f.speed as f32,
+            f.time,
+        );
         let c32 = g32.step(
             &path32,
-            &kappaline::GuidanceInput {
-                fix: Some(fix32),
-                now: a.time as f32,
-                dt: 0.05,
-            },
+            &kappaline::GuidanceInput::new(
+                kappaline::FixUpdate::New(fix32),
+                steering_sim::micros(a.time),
+                50_000,
+            ),
         );
         let c64 = g64.step(
             &path64,
-            &kappaline::GuidanceInput {
-                fix: Some(b.fix()),
-                now: b.time,
-                dt: 0.05,
-            },
+            &kappaline::GuidanceInput::new(
+                kappaline::FixUpdate::New(b.fix()),
+                steering_sim::micros(b.time),
+                50_000,
+            ),
         );
         assert_eq!(c32.status, GuidanceStatus::Following);
         let cmd = kappaline::Command {
@@ -501,6 +501,7 @@ fn f32_guidance_matches_f64() {
             wheel_speeds: (0.0, 0.0),
             speed_limit: f64::from(c32.speed_limit),
             status: c32.status,
+            reason: None,
             tracking: None,
         };
         a.apply(&cmd);

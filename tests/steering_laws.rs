@@ -13,8 +13,9 @@
 use core::f64::consts::{FRAC_PI_4, PI};
 
 use kappaline::{
-    Fix, FrenetFeedback, Guidance, GuidanceInput, GuidanceStatus, PathBuilder, Pose, PurePursuit,
-    Segment, Stanley, SteeringInput, SteeringLaw, SupervisorConfig, TrackerConfig, Vehicle,
+    Fix, FixUpdate, FrenetFeedback, Guidance, GuidanceInput, GuidanceStatus, Micros, PathBuilder,
+    Pose, PurePursuit, Segment, Stanley, SteeringInput, SteeringLaw, SupervisorConfig,
+    TrackerConfig, Vehicle,
 };
 
 #[test]
@@ -106,11 +107,7 @@ fn first_command<L: SteeringLaw<f64>>(
     .unwrap();
     let cmd = g.step(
         &path,
-        &GuidanceInput {
-            fix: Some(fix),
-            now: 0.0,
-            dt: 0.05,
-        },
+        &GuidanceInput::new(FixUpdate::New(fix), Micros(0), 50_000),
     );
     assert_eq!(cmd.status, GuidanceStatus::Following);
     assert!((cmd.steer_angle - vehicle.steer_from_curvature(cmd.curvature)).abs() < 1e-12);
@@ -118,13 +115,7 @@ fn first_command<L: SteeringLaw<f64>>(
 }
 
 fn fix(x: f64, y: f64, heading: f64, speed: f64) -> Fix<f64> {
-    Fix {
-        x,
-        y,
-        heading,
-        speed,
-        time: 0.0,
-    }
+    Fix::new(x, y, heading, speed, Micros(0))
 }
 
 #[test]
@@ -252,11 +243,7 @@ fn differential_drive_command() {
     .unwrap();
     let cmd = g.step(
         &path,
-        &GuidanceInput {
-            fix: Some(fix(10.0, 0.2, 0.0, 1.0)),
-            now: 0.0,
-            dt: 0.05,
-        },
+        &GuidanceInput::new(FixUpdate::New(fix(10.0, 0.2, 0.0, 1.0)), Micros(0), 50_000),
     );
     let k = -0.4 / 1.48;
     assert!((cmd.curvature - k).abs() < 1e-12, "{}", cmd.curvature);

@@ -34,21 +34,11 @@ fn command_before_arc(lag: f64) -> f64 {
     let mut cmd = None;
     // A few cycles on the path (the limiter ramps at 10 rad/s: no cut here).
     for k in 0..3 {
-        let t = 0.1 * k as f64;
-        let fix = kappaline::Fix {
-            x: 19.5,
-            y: 0.0,
-            heading: 0.0,
-            speed: 2.0,
-            time: t,
-        };
+        let now = kappaline::Micros(100_000 * k);
+        let fix = kappaline::Fix::new(19.5, 0.0, 0.0, 2.0, now);
         cmd = Some(g.step(
             &path,
-            &GuidanceInput {
-                fix: Some(fix),
-                now: t,
-                dt: 0.1,
-            },
+            &GuidanceInput::new(kappaline::FixUpdate::New(fix), now, 100_000),
         ));
     }
     cmd.unwrap().curvature

@@ -5,12 +5,14 @@
 //! (hold / straighten / stop); the limits from the vehicle description.
 
 use kappaline::{
-    Command, Fix, Guidance, GuidanceInput, GuidanceStatus, Path, PathBuilder, Pose, PurePursuit,
-    Segment, SupervisorConfig, TrackerConfig, Vehicle,
+    Command, Fix, FixUpdate, Guidance, GuidanceInput, GuidanceStatus, Micros, Path, PathBuilder,
+    Pose, PurePursuit, Reason, Segment, SupervisorConfig, TrackerConfig, Vehicle,
 };
 use proptest::prelude::*;
 
 const DT: f64 = 0.05;
+/// The control period in microseconds.
+const DT_US: u32 = 50_000;
 
 fn vehicle() -> Vehicle<f64> {
     Vehicle::front_steered(2.5, 35f64.to_radians(), 40f64.to_radians()).unwrap()
@@ -40,7 +42,7 @@ fn guidance() -> Guidance<f64, PurePursuit<f64>> {
 struct Drive {
     g: Guidance<f64, PurePursuit<f64>>,
     path: Path<f64, 4>,
-    now: f64,
+    now: Micros,
     last: Option<Command<f64>>,
 }
 
@@ -49,14 +51,21 @@ impl Drive {
         Self {
             g: guidance(),
             path: line(200.0),
-            now: 0.0,
+            now: Micros(0),
             last: None,
         }
     }
-    fn raw(&mut self, fix: Option<Fix<f64>>, now: f64, dt: f64) -> Command<f64> {
-        let cmd = self.g.step(&self.path, &GuidanceInput { fix, now, dt });
+    fn raw(&mut self, fix: FixUpdate<f64>, now: Micros, period_us: u32) -> Command<f64> {
+        self.input(&GuidanceInput::new(fix, now, period_us))
+    }
+    fn input(&mut self, input: &GuidanceInput<f64>) -> Command<f64> {
+        let cmd = self.g.step(&self.path, input);
         assert_finite(&cmd);
-        if let (Some(prev), true) = (self.last, dt.is_finite() && dt > 0.0) {
+        let dt = f64::from(input.period_us) * 1e-6;
+        // Standby's neutral output is no steering command: no rate limit.
+        let standby = |c: &Command<f64>| c.status == GuidanceStatus::Standby;
+        let limited = cmd.status != GuidanceStatus::Fault && !standby(&cmd);
+        if let (Some(prev), true) = (self.last.filter(|c| !standby(c)), limited) {
             let rate = (cmd.steer_angle - prev.steer_angle).abs() / dt;
             assert!(
                 rate <= vehicle().max_steer_rate() * (1.0 + 1e-9) + 1e-12,
@@ -69,19 +78,20 @@ impl Drive {
     }
     /// A step with a fix at (x, y), heading h, speed 2 m/s, stamped now.
     fn at(&mut self, x: f64, y: f64, h: f64) -> Command<f64> {
-        self.now += DT;
-        let f = Fix {
-            x,
-            y,
-            heading: h,
-            speed: 2.0,
-            time: self.now,
-        };
-        self.raw(Some(f), self.now, DT)
+        self.now = self.now.add_micros(DT_US);
+        let f = Fix::new(x, y, h, 2.0, self.now);
+        self.raw(FixUpdate::New(f), self.now, DT_US)
     }
+    /// A step with a new fix, or with none (`FixUpdate::NoFix`).
     fn with(&mut self, fix: Option<Fix<f64>>) -> Command<f64> {
-        self.now += DT;
-        self.raw(fix, self.now, DT)
+        self.now = self.now.add_micros(DT_US);
+        let update = fix.map_or(FixUpdate::NoFix, FixUpdate::New);
+        self.raw(update, self.now, DT_US)
+    }
+    /// A step with `update`.
+    fn update(&mut self, update: FixUpdate<f64>) -> Command<f64> {
+        self.now = self.now.add_micros(DT_US);
+        self.raw(update, self.now, DT_US)
     }
     /// Follows the path for `n` steps at y offset `y`, moving 0.1 m a step.
     fn follow(&mut self, x0: f64, y: f64, n: usize) -> f64 {
@@ -140,13 +150,7 @@ fn nan_fix_holds_then_lost_then_straightens() {
     let x = d.follow(10.0, 0.8, 10);
     let before = d.last.unwrap();
     assert!(before.curvature.abs() > 1e-3);
-    let nan = Fix {
-        x: f64::NAN,
-        y: 0.0,
-        heading: 0.0,
-        speed: 2.0,
-        time: d.now + DT,
-    };
+    let nan = Fix::new(f64::NAN, 0.0, 0.0, 2.0, d.now.add_micros(DT_US));
     let c = d.with(Some(nan));
     assert_eq!(c.status, GuidanceStatus::Degraded);
     assert_eq!(c.curvature, before.curvature); // hold
@@ -178,14 +182,10 @@ fn nan_fix_holds_then_lost_then_straightens() {
 fn stale_fix_degrades() {
     let mut d = Drive::new();
     d.follow(10.0, 0.2, 5);
-    let stale = Fix {
-        x: 11.0,
-        y: 0.2,
-        heading: 0.0,
-        speed: 2.0,
-        time: d.now - 1.0,
-    };
-    assert_eq!(d.with(Some(stale)).status, GuidanceStatus::Degraded);
+    let stale = Fix::new(11.0, 0.2, 0.0, 2.0, d.now.sub_micros(1_000_000));
+    let c = d.with(Some(stale));
+    assert_eq!(c.status, GuidanceStatus::Degraded);
+    assert_eq!(c.reason, Some(Reason::StaleFix));
 }
 
 #[test]
@@ -193,14 +193,10 @@ fn fix_time_going_backwards_degrades() {
     let mut d = Drive::new();
     d.follow(10.0, 0.2, 5);
     let t = d.now;
-    let old = Fix {
-        x: 11.0,
-        y: 0.2,
-        heading: 0.0,
-        speed: 2.0,
-        time: t - 0.1,
-    };
-    assert_eq!(d.with(Some(old)).status, GuidanceStatus::Degraded);
+    let old = Fix::new(11.0, 0.2, 0.0, 2.0, t.sub_micros(100_000));
+    let c = d.with(Some(old));
+    assert_eq!(c.status, GuidanceStatus::Degraded);
+    assert_eq!(c.reason, Some(Reason::BadFix));
 }
 
 #[test]
@@ -388,22 +384,16 @@ fn bad_time_is_a_fault_for_that_cycle() {
     let mut d = Drive::new();
     let x = d.follow(10.0, 0.5, 5);
     let held = d.last.unwrap().curvature;
-    let f = Fix {
-        x: x - 0.1,
-        y: 0.5,
-        heading: 0.0,
-        speed: 2.0,
-        time: d.now,
-    };
-    for (now, dt) in [
-        (f64::NAN, DT),
-        (d.now + DT, 0.0),
-        (d.now + DT, f64::NAN),
-        (d.now - 1.0, DT),
-        (f64::INFINITY, DT),
+    let f = Fix::new(x - 0.1, 0.5, 0.0, 2.0, d.now);
+    for (now, period) in [
+        (d.now.add_micros(DT_US), 0),
+        (d.now.add_micros(DT_US), u32::MAX),
+        (d.now.add_micros(DT_US), 1 << 31),
+        (d.now.sub_micros(1_000_000), DT_US),
     ] {
-        let c = d.raw(Some(f), now, dt);
+        let c = d.raw(FixUpdate::New(f), now, period);
         assert_eq!(c.status, GuidanceStatus::Fault);
+        assert_eq!(c.reason, Some(Reason::BadTime));
         assert_eq!(c.speed_limit, 0.0);
         assert_eq!(c.curvature, held);
     }
@@ -412,22 +402,16 @@ fn bad_time_is_a_fault_for_that_cycle() {
 
 #[test]
 fn a_fix_stamped_in_the_future_is_refused_and_forgotten() {
-    // A receiver time glitch: one fix stamped 1e6 s ahead. It is not usable
+    // A receiver time glitch: one fix stamped 1000 s ahead. It is not usable
     // (Degraded), and it must not poison the fix history: the next genuine
     // fixes are followed again at once (contract: src/guide/supervisor.rs, "A fix
     // is usable if ...").
     let mut d = Drive::new();
     let mut x = d.follow(10.0, 0.2, 10);
-    d.now += DT;
-    let glitch = Fix {
-        x,
-        y: 0.2,
-        heading: 0.0,
-        speed: 2.0,
-        time: 1e6,
-    };
+    d.now = d.now.add_micros(DT_US);
+    let glitch = Fix::new(x, 0.2, 0.0, 2.0, d.now.add_micros(1_000_000_000));
     assert_eq!(
-        d.raw(Some(glitch), d.now, DT).status,
+        d.raw(FixUpdate::New(glitch), d.now, DT_US).status,
         GuidanceStatus::Degraded
     );
     x += 2.0 * DT;
@@ -436,12 +420,12 @@ fn a_fix_stamped_in_the_future_is_refused_and_forgotten() {
 
 #[test]
 fn one_bogus_now_does_not_latch_the_fault() {
-    // `now` jumps to 1e6 s for one cycle and comes back: the cycles after it
+    // `now` jumps 1000 s ahead for one cycle and comes back: the cycles after it
     // go back in time (Fault); after FAULT_CYCLES_TO_RESTART of them the new
     // time base is taken, the guidance starts again and follows.
     let mut d = Drive::new();
     let mut x = d.follow(10.0, 0.2, 10);
-    let bogus = d.raw(None, 1e6, DT);
+    let bogus = d.raw(FixUpdate::NoFix, d.now.add_micros(1_000_000_000), DT_US);
     assert_ne!(bogus.status, GuidanceStatus::Following);
     let mut statuses = Vec::new();
     for _ in 0..6 {
@@ -472,18 +456,230 @@ fn value() -> impl Strategy<Value = f64> {
     ]
 }
 
+/// Microseconds: mostly a control period's worth, sometimes anything.
+fn micros() -> impl Strategy<Value = u32> {
+    prop_oneof![
+        6 => 0..200_000u32,
+        1 => any::<u32>(),
+    ]
+}
+
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(64))]
     #[test]
-    fn never_non_finite(steps in prop::collection::vec((prop::option::of((value(), value(), value(), value(), value())), value(), value()), 1..60)) {
+    fn never_non_finite(steps in prop::collection::vec((prop::option::of((value(), value(), value(), value(), micros())), 0..3u8, micros(), micros(), any::<bool>()), 1..60)) {
         let mut d = Drive::new();
-        let mut now = 0.0;
-        for (fix, dnow, dt) in steps {
-            now += dnow.abs().min(1.0);
-            let fix = fix.map(|(x, y, h, v, t)| Fix { x: 10.0 + x, y, heading: h, speed: v, time: now - t.abs().min(1.0) });
-            let dt = if dt.is_finite() { dt.abs().min(0.2) } else { dt };
-            let cmd = d.raw(fix, if dnow.is_nan() { dnow } else { now }, dt);
+        let mut now = Micros(0);
+        for (fix, kind, step, period, manual) in steps {
+            now = now.add_micros(step);
+            let update = match (fix, kind) {
+                (Some((x, y, h, v, age)), 0) => FixUpdate::New(Fix::new(10.0 + x, y, h, v, now.sub_micros(age))),
+                (_, 1) => FixUpdate::Unchanged,
+                _ => FixUpdate::NoFix,
+            };
+            let input = GuidanceInput { manual_override: manual && kind == 2, ..GuidanceInput::new(update, now, period) };
+            let cmd = d.input(&input);
             prop_assert!(cmd.curvature.abs() <= vehicle().max_curvature() * (1.0 + 1e-12));
+            if cmd.status == GuidanceStatus::Standby {
+                prop_assert_eq!((cmd.curvature, cmd.speed_limit), (0.0, 0.0));
+                d.g.engage();
+            }
         }
     }
+}
+
+#[test]
+fn twenty_hz_control_with_ten_hz_fixes_keeps_following() {
+    // 400 cycles at 20 Hz, a new fix on every other cycle. Saying "no new
+    // fix" (Unchanged) on the others keeps Following on all 400; saying "no
+    // fix" (NoFix) is a missing fix, Degraded on each of those 200 cycles.
+    // (Contract: src/guide/supervisor.rs, "A cycle with FixUpdate::Unchanged".)
+    for (between, want_following) in [(FixUpdate::Unchanged, 400), (FixUpdate::NoFix, 200)] {
+        let mut d = Drive::new();
+        let mut x = 10.0;
+        let mut following = 0;
+        for k in 0..400 {
+            let c = if k % 2 == 0 {
+                d.at(x, 0.1, 0.0)
+            } else {
+                d.update(between)
+            };
+            following += usize::from(c.status == GuidanceStatus::Following);
+            x += 2.0 * DT;
+        }
+        assert_eq!(following, want_following, "{between:?}");
+    }
+}
+
+#[test]
+fn unchanged_goes_stale_after_max_fix_age() {
+    let mut d = Drive::new();
+    d.follow(10.0, 0.1, 5);
+    // max_fix_age 0.3 s: six 50 ms cycles without a new fix are fresh, the
+    // seventh (0.35 s) is not.
+    for _ in 0..6 {
+        assert_eq!(
+            d.update(FixUpdate::Unchanged).status,
+            GuidanceStatus::Following
+        );
+    }
+    let c = d.update(FixUpdate::Unchanged);
+    assert_eq!(c.status, GuidanceStatus::Degraded);
+    assert_eq!(c.reason, Some(Reason::StaleFix));
+}
+
+fn rated(fix: Fix<f64>, solution: kappaline::Solution) -> Fix<f64> {
+    fix.with_quality(kappaline::FixQuality {
+        solution,
+        sigma: Some(0.02),
+        ..Default::default()
+    })
+}
+
+#[test]
+fn quality_below_the_gate_degrades_then_loses_with_its_reason() {
+    use kappaline::Solution::{Fixed, Float};
+    let v = vehicle();
+    let cfg = SupervisorConfig {
+        min_solution: Some(Fixed),
+        ..SupervisorConfig::default_for(&v)
+    };
+    let mut d = Drive::new();
+    d.g = Guidance::new(v, PurePursuit::tractor(), TrackerConfig::tractor(), cfg).unwrap();
+    let mut x = 10.0;
+    let mut step = |d: &mut Drive, s| {
+        d.now = d.now.add_micros(DT_US);
+        let f = rated(Fix::new(x, 0.1, 0.0, 2.0, d.now), s);
+        x += 2.0 * DT;
+        d.raw(FixUpdate::New(f), d.now, DT_US)
+    };
+    for _ in 0..10 {
+        assert_eq!(step(&mut d, Fixed).status, GuidanceStatus::Following);
+    }
+    // 1 s of float: Degraded for hold_time (0.5 s), then Lost; the reason
+    // stays LowSolution throughout.
+    let spell: Vec<_> = (0..20).map(|_| step(&mut d, Float)).collect();
+    assert!(spell.iter().all(|c| c.reason == Some(Reason::LowSolution)));
+    let lost = spell
+        .iter()
+        .position(|c| c.status == GuidanceStatus::Lost)
+        .unwrap();
+    assert!(spell[..lost]
+        .iter()
+        .all(|c| c.status == GuidanceStatus::Degraded));
+    assert!((10..=11).contains(&lost), "{lost}");
+    // Fixed again: confirm_fixes (5) agreeing fixes, then Following.
+    let back: Vec<_> = (0..6).map(|_| step(&mut d, Fixed).status).collect();
+    assert_eq!(back[4], GuidanceStatus::Following, "{back:?}");
+    assert!(back[..4].iter().all(|s| *s == GuidanceStatus::Lost));
+}
+
+#[test]
+fn standby_is_neutral_keeps_the_tracker_and_engages_at_once() {
+    let mut d = Drive::new();
+    let mut x = d.follow(10.0, 0.4, 10);
+    d.g.standby();
+    assert!(!d.g.is_engaged());
+    for _ in 0..10 {
+        let c = d.at(x, 0.4, 0.0);
+        assert_eq!(c.status, GuidanceStatus::Standby);
+        assert_eq!(c.reason, Some(Reason::Standby));
+        assert_eq!((c.curvature, c.steer_angle, c.speed_limit), (0.0, 0.0, 0.0));
+        // The tracker follows: station and cross-track stay known.
+        let t = c.tracking.unwrap();
+        assert!((t.station - x).abs() < 1e-9 && (t.cross_track - 0.4).abs() < 1e-9);
+        x += 2.0 * DT;
+    }
+    d.g.engage();
+    let c = d.at(x, 0.4, 0.0);
+    assert_eq!(c.status, GuidanceStatus::Following);
+    assert!(c.curvature < 0.0 && c.speed_limit > 0.0);
+}
+
+#[test]
+fn manual_override_disengages_until_engaged() {
+    let mut d = Drive::new();
+    let mut x = d.follow(10.0, 0.2, 5);
+    d.now = d.now.add_micros(DT_US);
+    let f = Fix::new(x, 0.2, 0.0, 2.0, d.now);
+    let c = d.input(&GuidanceInput {
+        manual_override: true,
+        ..GuidanceInput::new(FixUpdate::New(f), d.now, DT_US)
+    });
+    assert_eq!(c.status, GuidanceStatus::Standby);
+    assert_eq!(c.reason, Some(Reason::ManualOverride));
+    assert_eq!(c.speed_limit, 0.0);
+    // The operator lets go of the wheel: still standing by, and saying why.
+    x += 2.0 * DT;
+    let c = d.at(x, 0.2, 0.0);
+    assert_eq!(
+        (c.status, c.reason),
+        (GuidanceStatus::Standby, Some(Reason::ManualOverride))
+    );
+    d.g.engage();
+    x += 2.0 * DT;
+    assert_eq!(d.at(x, 0.2, 0.0).status, GuidanceStatus::Following);
+}
+
+#[test]
+fn line_shift_moves_the_line_followed() {
+    let mut d = Drive::new();
+    let path = d.path.clone();
+    // 0.3 m left of the reference with a 0.3 m shift to the left: on the
+    // line, so no cross-track and (pure pursuit, on a straight) no curvature.
+    d.g.set_line_shift(&path, 0.3).unwrap();
+    assert_eq!(d.g.line_shift(), 0.3);
+    let c = d.at(10.0, 0.3, 0.0);
+    assert_eq!(c.status, GuidanceStatus::Following);
+    let t = c.tracking.unwrap();
+    assert!(t.cross_track.abs() < 1e-12, "{}", t.cross_track);
+    assert!(c.curvature.abs() < 1e-12, "{}", c.curvature);
+    // Bad shifts are refused and change nothing.
+    assert!(d.g.set_line_shift(&path, f64::NAN).is_err());
+    assert_eq!(d.g.line_shift(), 0.3);
+}
+
+#[test]
+fn following_pass_n_through_guidance() {
+    use kappaline::{FrenetFeedback, Passes};
+    // A left arc of radius 20 m; pass 1 of a 2 m swath lies 2 m left, on
+    // the concentric circle of radius 18 m (elementary geometry: the offset
+    // of a circle is a circle), curvature 1/18.
+    let r = 20.0;
+    let path: Path<f64, 4> = PathBuilder::new(Pose::new(0.0, 0.0, 0.0))
+        .unwrap()
+        .push(Segment::arc(r * 2.0, 1.0 / r).unwrap())
+        .unwrap()
+        .build()
+        .unwrap();
+    let v = vehicle();
+    let mut g = Guidance::new(
+        v,
+        FrenetFeedback::tractor(),
+        TrackerConfig::tractor(),
+        SupervisorConfig::default_for(&v),
+    )
+    .unwrap();
+    let passes = Passes::new(2.0).unwrap();
+    g.follow_pass(&path, &passes, 1).unwrap();
+    assert_eq!((g.pass(), g.line_offset()), (Some(1), 2.0));
+    // On pass 1 a quarter of the way round, heading along it (the circle
+    // about (0, 20) of radius 18, at angle phi from the start).
+    let mut cmd = None;
+    // Ten cycles: the steering ramps from straight at its rate limit.
+    for k in 0..10u32 {
+        let phi = 0.5 + 0.0025 * f64::from(k);
+        let (x, y) = (18.0 * phi.sin(), 20.0 - 18.0 * phi.cos());
+        let now = Micros(k * DT_US);
+        let fix = Fix::new(x, y, phi, 0.9, now);
+        cmd = Some(g.step(&path, &GuidanceInput::new(FixUpdate::New(fix), now, DT_US)));
+    }
+    let c = cmd.unwrap();
+    assert_eq!(c.status, GuidanceStatus::Following);
+    let t = c.tracking.unwrap();
+    assert!(t.cross_track.abs() < 1e-9, "{}", t.cross_track);
+    assert!((c.curvature - 1.0 / 18.0).abs() < 1e-9, "{}", c.curvature);
+    // A pass that would cusp (offset 20 m = the radius) is refused.
+    assert!(g.follow_pass(&path, &passes, 10).is_err());
+    assert_eq!(g.pass(), Some(1));
 }

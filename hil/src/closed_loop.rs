@@ -171,6 +171,7 @@ pub fn gnss_of(s: &Scenario) -> GnssModel {
         heading_bias_rad: g.heading_bias_deg.to_radians(),
         roll_noise_rad: g.roll_noise_deg.to_radians(),
         roll_bias_rad: g.roll_bias_deg.to_radians(),
+        solution: g.solution.core(),
     }
 }
 
@@ -205,6 +206,17 @@ fn sensor_faults(s: &Scenario) -> Vec<GnssFault> {
                 until_s: at_s + duration_s,
                 dx_m: east_m,
                 dy_m: north_m,
+            }),
+            FaultSpec::SolutionDrop {
+                at_s,
+                duration_s,
+                solution,
+                extra_noise_m,
+            } => Some(GnssFault::SolutionDrop {
+                from_s: at_s,
+                until_s: at_s + duration_s,
+                solution: solution.core(),
+                extra_noise_m,
             }),
             FaultSpec::SteerStuck { .. } => None,
         })

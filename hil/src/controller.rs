@@ -10,9 +10,9 @@
 //! path's segments; the harness measures in `f64` against the host path.
 
 use kappaline::{
-    control_point, Continuity, Direction, Fix, FrenetFeedback, Guidance, GuidanceInput,
-    GuidanceStatus, LeverArm, Path, PathBuilder, Pose, PurePursuit, Real, Segment, Stanley,
-    SteeringLaw, SupervisorConfig, TrackerConfig, Vehicle,
+    control_point, Continuity, Direction, Fix, FixQuality, FixUpdate, FrenetFeedback, Guidance,
+    GuidanceInput, GuidanceStatus, LeverArm, Micros, Path, PathBuilder, Pose, PurePursuit, Real,
+    Segment, Stanley, SteeringLaw, SupervisorConfig, TrackerConfig, Vehicle,
 };
 
 use crate::firmware::{Actuation, Cycle, Firmware, SupervisorStatus};
@@ -29,7 +29,13 @@ pub struct GuidanceFirmware<T: Real, L> {
     speed_set: f64,
     differential: bool,
     last: Option<Measurement>,
-    last_fix: Option<Fix<T>>,
+}
+
+/// The firmware's clock: harness seconds as the core's wrapping
+/// microsecond count (wrapping every 71.6 min of simulated time, as a
+/// 32-bit timer would).
+pub fn micros_of(t_s: f64) -> Micros {
+    Micros((t_s * 1e6).round() as u64 as u32)
 }
 
 fn steer_err(field: &str) -> impl Fn(kappaline::SteerError) -> anyhow::Error + '_ {
@@ -170,6 +176,8 @@ fn supervisor_of<T: Real>(s: &Scenario, vehicle: &Vehicle<T>) -> SupervisorConfi
     if let Some(v) = sv.max_fix_age_s {
         c.max_fix_age = f(v);
     }
+    c.min_solution = sv.min_solution.map(|s| s.core());
+    c.max_sigma = sv.max_sigma_m.map(f);
     if let Some(v) = sv.hold_time_s {
         c.hold_time = f(v);
     }
@@ -245,7 +253,6 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
             speed_set: spec.controller.speed_m_s,
             differential,
             last: None,
-            last_fix: None,
         })
     }
 
@@ -265,13 +272,14 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
             &self.arm,
         )
         .ok()?;
-        Some(Fix {
-            x: c.x,
-            y: c.y,
-            heading: f(m.heading),
-            speed: f(m.speed),
-            time: f(m.time_s),
-        })
+        let quality = FixQuality {
+            solution: m.solution,
+            sigma: Some(f(m.sigma_m)),
+            ..FixQuality::default()
+        };
+        Some(
+            Fix::new(c.x, c.y, f(m.heading), f(m.speed), micros_of(m.time_s)).with_quality(quality),
+        )
     }
 }
 
@@ -289,19 +297,21 @@ pub fn status_of(s: GuidanceStatus) -> SupervisorStatus {
 
 impl<T: Real, L: SteeringLaw<T>> Firmware for GuidanceFirmware<T, L> {
     fn cycle(&mut self, input: &Cycle) -> Actuation {
-        if let Some(m) = input.measurement {
-            self.last = Some(m);
-            self.last_fix = self.fix_of(&m);
-        }
-        // Firmware hands over its newest fix every cycle; the supervisor
-        // judges its age.
+        // A new epoch is a new fix; a cycle between epochs says "no new
+        // fix" (the supervisor dead-reckons from the last one and judges
+        // its age); an epoch the lever arm cannot place is no fix.
+        let fix = match input.measurement {
+            Some(m) => {
+                self.last = Some(m);
+                self.fix_of(&m).map_or(FixUpdate::NoFix, FixUpdate::New)
+            }
+            None if self.last.is_some() => FixUpdate::Unchanged,
+            None => FixUpdate::NoFix,
+        };
+        let period_us = (input.dt * 1e6).round().clamp(1.0, f64::from(i32::MAX)) as u32;
         let cmd = self.guidance.step(
             &self.path,
-            &GuidanceInput {
-                fix: self.last_fix,
-                now: T::from_f64(input.now),
-                dt: T::from_f64(input.dt),
-            },
+            &GuidanceInput::new(fix, micros_of(input.now), period_us),
         );
         let sign = cmd.tracking.map_or(1.0, |t| t.foot.direction.sign::<f64>());
         let speed = sign * self.speed_set.min(cmd.speed_limit.to_f64());

@@ -361,3 +361,36 @@ fn stuck_steering_runs_wide_and_recovers() {
     assert!(late < 0.1, "not recovered: {late}");
     assert_trace_finite(&stuck);
 }
+
+/// The receiver drops from fixed to float for 10 s with steering gated on
+/// a fixed solution (hil/scenarios/field_float.toml): degraded at the first
+/// float epoch (60.0 s, delivered 60.05 s), lost after hold_time (0.5 s),
+/// following again once confirm_fixes (5) fixed epochs agree (from 70.05 s
+/// delivery, 10 Hz: at 70.45 s), with no flicker between.
+#[test]
+fn fixed_to_float_for_ten_seconds_degrades_loses_and_recovers() {
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/field_float.toml");
+    let o = run(&scenario(path, &[]));
+    use SupervisorStatus::*;
+    assert_eq!(
+        sequence(&o.run),
+        vec![Acquiring, Following, Degraded, Lost, Following, EndOfPath]
+    );
+    let deg = first_after(&o.run, Degraded, 0.0).unwrap();
+    let lost = first_after(&o.run, Lost, deg).unwrap();
+    let back = first_after(&o.run, Following, lost).unwrap();
+    assert!((deg - 60.05).abs() < 1e-6, "degraded at {deg}");
+    assert!((lost - deg - 0.5).abs() <= 0.05 + 1e-9, "lost at {lost}");
+    assert!((70.05..=70.55).contains(&back), "following at {back}");
+    assert!(o.pass(), "{:?}", failed(&o));
+    // Gated on float instead, it rides through the drop.
+    let o = run(&scenario(
+        path,
+        &["controller.supervisor.min_solution=\"float\""],
+    ));
+    assert_eq!(
+        sequence(&o.run),
+        vec![Acquiring, Following, EndOfPath],
+        "gated on float"
+    );
+}

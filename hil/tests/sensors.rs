@@ -15,6 +15,7 @@ fn model(noise: f64, bias: f64) -> GnssModel {
         heading_bias_rad: 0.0,
         roll_noise_rad: 0.0,
         roll_bias_rad: 0.0,
+        solution: kappaline::Solution::Fixed,
     }
 }
 

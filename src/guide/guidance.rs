@@ -69,8 +69,11 @@
 //! emergency stop; the standards that apply to the machine (e.g. ISO 25119,
 //! ISO 18497, ISO 3691-4, ISO 26262, IEC 61508) decide what else it needs.
 
-use crate::guide::cycle::{Command, Fix, GuidanceInput, GuidanceStatus};
+use crate::build::passes::{PassError, Passes};
+use crate::guide::cycle::{Command, Fix, GuidanceInput, GuidanceStatus, Reason};
+use crate::guide::operator::Operator;
 use crate::guide::supervisor::{FixMonitor, Mode, SupervisorConfig, Verdict};
+use crate::guide::time::{Micros, MICROS_PER_SECOND};
 use crate::num::real::{c, Real};
 use crate::path::anchored::Path;
 use crate::path::pose::{Direction, PathPoint, Pose};
@@ -246,8 +249,8 @@ fn project<T: Real, const N: usize>(
 ///
 /// ```
 /// use kappaline::{
-///     Fix, Guidance, GuidanceInput, GuidanceStatus, PathBuilder, Pose, PurePursuit,
-///     Segment, SupervisorConfig, TrackerConfig, Vehicle,
+///     Fix, FixUpdate, Guidance, GuidanceInput, GuidanceStatus, Micros, PathBuilder, Pose,
+///     PurePursuit, Segment, SupervisorConfig, TrackerConfig, Vehicle,
 /// };
 /// # fn main() -> Result<(), Box<dyn core::error::Error>> {
 /// let path = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))?
@@ -260,11 +263,18 @@ fn project<T: Real, const N: usize>(
 ///     TrackerConfig::tractor(),
 ///     SupervisorConfig::default_for(&vehicle),
 /// )?;
-/// let fix = Fix { x: 10.0, y: 0.5, heading: 0.0, speed: 2.0, time: 0.0 };
-/// let cmd = g.step(&path, &GuidanceInput { fix: Some(fix), now: 0.0, dt: 0.05 });
+/// let fix = Fix::new(10.0, 0.5, 0.0, 2.0, Micros(0));
+/// let cmd = g.step(&path, &GuidanceInput::new(FixUpdate::New(fix), Micros(0), 50_000));
 /// assert_eq!(cmd.status, GuidanceStatus::Following);
 /// assert!(cmd.curvature < 0.0); // left of the path: steer right
 /// assert!(cmd.speed_limit > 0.0);
+/// // 50 ms later, no new fix yet: still following, dead-reckoned.
+/// let cmd = g.step(&path, &GuidanceInput::new(FixUpdate::Unchanged, Micros(50_000), 50_000));
+/// assert_eq!(cmd.status, GuidanceStatus::Following);
+/// // The operator disengages: neutral output, stop request.
+/// g.standby();
+/// let cmd = g.step(&path, &GuidanceInput::new(FixUpdate::Unchanged, Micros(100_000), 50_000));
+/// assert_eq!((cmd.status, cmd.curvature, cmd.speed_limit), (GuidanceStatus::Standby, 0.0, 0.0));
 /// # Ok(()) }
 /// ```
 #[derive(Debug, Clone)]
@@ -275,18 +285,22 @@ pub struct Guidance<T: Real, L> {
     config: SupervisorConfig<T>,
     limiter: SteerLimiter<T>,
     monitor: FixMonitor<T>,
-    mode: Mode<T>,
+    mode: Mode,
     leg: Option<Leg<T>>,
     station: T,
     speed: T,
     speed_limit: T,
     saturated: bool,
-    last_now: Option<T>,
+    last_now: Option<Micros>,
     /// Consecutive cycles with `now` going backwards.
     backwards: u32,
     /// Estimate of the body curvature actually driven, 1/m: the commands
     /// through the actuator's first-order lag (`Vehicle::steer_lag`).
     driven: T,
+    /// The cause behind the current status, when it is not following.
+    reason: Option<Reason>,
+    /// Engage state, pass and line shift.
+    operator: Operator<T>,
 }
 
 /// Where the control point is, found during one cycle.
@@ -326,12 +340,15 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             last_now: None,
             backwards: 0,
             driven: T::ZERO,
+            reason: None,
+            operator: Operator::new(),
         })
     }
 
     /// Back to `Acquiring`: forgets the station, the leg, the fix history
     /// and the law's integrators. The steering limiter keeps its last
     /// output (the wheels do not jump). Call it when the path changes.
+    /// The operator's settings (engaged or not, pass, line shift) stay.
     pub fn reset(&mut self) {
         self.tracker.reset();
         self.law.reset();
@@ -375,28 +392,34 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         path: &Path<T, N>,
         input: &GuidanceInput<T>,
     ) -> Command<T> {
-        let cmd = self.cycle(path, input);
+        let mut cmd = self.cycle(path, input);
+        cmd.reason = match cmd.status {
+            GuidanceStatus::Following | GuidanceStatus::EndOfPath => None,
+            _ => self.reason,
+        };
         if cmd.is_finite() {
             cmd
         } else {
-            self.fault()
+            self.fault(Reason::BadFix)
         }
     }
 
     fn cycle<const N: usize>(&mut self, path: &Path<T, N>, input: &GuidanceInput<T>) -> Command<T> {
-        let (now, dt) = (input.now, input.dt);
-        let time_ok = now.is_finite() && dt.is_finite() && dt > T::ZERO;
-        if !time_ok {
-            return self.fault();
+        let now = input.now;
+        // A period beyond the 2^31 us horizon of `Micros` is refused too.
+        let period_ok = input.period_us > 0 && input.period_us <= i32::MAX as u32;
+        if !period_ok {
+            return self.fault(Reason::BadTime);
         }
-        if self.last_now.is_some_and(|t| now < t) {
+        let dt = T::from_u32(input.period_us) / T::from_u32(MICROS_PER_SECOND);
+        if self.last_now.is_some_and(|t| now.micros_since(t) < 0) {
             // Time going backwards: a fault for this cycle. If it keeps
             // doing so, the last `now` was the glitch (one bogus time far in
             // the future would otherwise latch the fault for ever): take
             // the new time base and start again.
             self.backwards = self.backwards.saturating_add(1);
             if self.backwards < FAULT_CYCLES_TO_RESTART {
-                return self.fault();
+                return self.fault(Reason::BadTime);
             }
             self.reset();
         }
@@ -405,13 +428,24 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         self.track_driven_curvature(dt);
         let verdict = self
             .monitor
-            .check(input.fix.as_ref(), now, &self.config, self.driven);
+            .check(&input.fix, now, &self.config, self.driven);
+        if input.manual_override {
+            self.operator.disengage(Reason::ManualOverride);
+        }
+        if !self.operator.is_engaged() {
+            return self.stand_by(path, verdict);
+        }
+        if let Some(r) = verdict.reason() {
+            self.reason = Some(r);
+        }
         match (self.mode, verdict) {
             (Mode::EndOfPath, _) => self.hold(GuidanceStatus::EndOfPath, true),
             (Mode::Acquiring, Verdict::Usable(f) | Verdict::Jumped(f)) => {
                 self.acquire(path, f, dt, Mode::Acquiring)
             }
-            (Mode::Acquiring, Verdict::Unusable) => self.straighten(GuidanceStatus::Acquiring, dt),
+            (Mode::Acquiring, Verdict::Unusable(_)) => {
+                self.straighten(GuidanceStatus::Acquiring, dt)
+            }
             (Mode::Following | Mode::Degraded(_), Verdict::Usable(f)) => {
                 self.mode = Mode::Following;
                 self.follow(path, f, dt)
@@ -422,7 +456,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                 self.hold(GuidanceStatus::Degraded, false)
             }
             (Mode::Degraded(since), _) => {
-                if now - since > self.config.hold_time {
+                if now.seconds_since::<T>(since) > self.config.hold_time {
                     self.mode = Mode::Lost;
                     self.straighten(GuidanceStatus::Lost, dt)
                 } else {
@@ -448,18 +482,21 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         path: &Path<T, N>,
         f: Fix<T>,
         dt: T,
-        fail: Mode<T>,
+        fail: Mode,
     ) -> Command<T> {
         self.tracker.reset();
-        match self.locate(path, &f) {
+        let on_line = self.operator.onto_reference(&mut self.tracker, path, f);
+        match self.locate(path, &on_line) {
             Some(sit) if self.within_limits(&sit.cp) => {
                 self.mode = Mode::Following;
+                self.reason = None;
                 self.monitor.forget_accepted();
                 self.monitor.accept(f);
                 self.speed = f.speed;
-                self.drive(path, f, sit, dt)
+                self.drive(path, on_line, sit, dt)
             }
-            _ => {
+            found => {
+                self.reason = Some(Self::why_not(found.is_some()));
                 self.mode = fail;
                 self.straighten(fail.status(), dt)
             }
@@ -470,12 +507,27 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     fn follow<const N: usize>(&mut self, path: &Path<T, N>, f: Fix<T>, dt: T) -> Command<T> {
         self.monitor.accept(f);
         self.speed = f.speed;
-        match self.locate(path, &f) {
-            Some(sit) if self.within_limits(&sit.cp) => self.drive(path, f, sit, dt),
-            _ => {
+        let on_line = self.operator.onto_reference(&mut self.tracker, path, f);
+        match self.locate(path, &on_line) {
+            Some(sit) if self.within_limits(&sit.cp) => {
+                self.reason = None;
+                self.drive(path, on_line, sit, dt)
+            }
+            found => {
+                self.reason = Some(Self::why_not(found.is_some()));
                 self.mode = Mode::Lost;
                 self.straighten(GuidanceStatus::Lost, dt)
             }
+        }
+    }
+
+    /// The reason a located fix is not steered with: beyond the limits if
+    /// the tracker found the path, else the path lost.
+    fn why_not(found: bool) -> Reason {
+        if found {
+            Reason::OffLimits
+        } else {
+            Reason::PathLost
         }
     }
 
@@ -616,11 +668,14 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         } else {
             reference.point
         };
+        let (curvature, sharpness) = self
+            .operator
+            .line_curvature(ahead.curvature, ahead.sharpness);
         let input = SteeringInput {
             cross_track: reference.cross_track,
             heading_error: reference.heading_error,
-            curvature: ahead.curvature,
-            sharpness: ahead.sharpness,
+            curvature,
+            sharpness,
             speed,
             goal,
             control_point: u_cp,
@@ -659,6 +714,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             wheel_speeds: self.vehicle.wheel_speeds(lim.curvature, v),
             speed_limit: limit,
             status,
+            reason: None,
             tracking,
         }
     }
@@ -706,8 +762,9 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     }
 
     /// Invalid time input, or (never expected) a non-finite result.
-    fn fault(&mut self) -> Command<T> {
+    fn fault(&mut self, reason: Reason) -> Command<T> {
         self.speed_limit = T::ZERO;
+        self.reason = Some(reason);
         let lim = self.limiter.hold();
         let finite = lim.curvature.is_finite() && lim.steer_angle.is_finite();
         let (k, d) = if finite {
@@ -722,7 +779,151 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             wheel_speeds: (T::ZERO, T::ZERO),
             speed_limit: T::ZERO,
             status: GuidanceStatus::Fault,
+            reason: Some(reason),
             tracking: None,
+        }
+    }
+}
+
+/// Operator controls (the state is in [`crate::guide::operator`]).
+impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
+    /// Engages: from the next cycle the guidance steers again, from the
+    /// state the tracker kept while standing by (no new acquisition if it
+    /// stayed on the path). The law's integrators start from zero and the
+    /// steering ramps from straight (the neutral output of standby) at the
+    /// rate limit; call [`Guidance::seed_curvature`] first with the measured
+    /// curvature if a steering-angle sensor says otherwise.
+    pub fn engage(&mut self) {
+        if !self.operator.is_engaged() {
+            self.law.reset();
+            self.saturated = false;
+        }
+        self.operator.engage();
+    }
+
+    /// Disengages: status `Standby`, neutral command (zero curvature and
+    /// steering angle, zero wheel speeds, stop request) until
+    /// [`Guidance::engage`]; the tracker keeps following the fixes.
+    pub fn standby(&mut self) {
+        self.operator.disengage(Reason::Standby);
+    }
+
+    /// `true` while engaged (`Guidance::new` starts engaged; firmware with
+    /// an engage switch calls [`Guidance::standby`] after construction).
+    pub fn is_engaged(&self) -> bool {
+        self.operator.is_engaged()
+    }
+
+    /// Shifts the line followed sideways by `shift` metres (left of the
+    /// reference direction positive), on top of the pass: an operator
+    /// matching last season's rows. Takes effect from the next cycle, as a
+    /// step in cross-track.
+    ///
+    /// # Errors
+    /// [`PassError::BadInput`] if not finite; [`PassError::Cusp`] if the
+    /// offset line would cusp somewhere on `path` (`kappa * offset >= 1`).
+    /// The settings are unchanged on error.
+    pub fn set_line_shift<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        shift: T,
+    ) -> Result<(), PassError<T>> {
+        let pass_offset = self.operator.offset() - self.operator.shift();
+        self.operator
+            .set_line(path, self.operator.pass(), pass_offset, shift)
+    }
+
+    /// The line shift, metres, left positive.
+    pub fn line_shift(&self) -> T {
+        self.operator.shift()
+    }
+
+    /// Follows pass `n` of `passes` (`n * swath` metres left of the
+    /// reference `path`, which stays the path given to [`Guidance::step`]).
+    /// The guidance acquires the pass afresh (`Acquiring`): within
+    /// `max_cross_track` of it.
+    ///
+    /// # Errors
+    /// [`PassError::Cusp`] if the pass (with the line shift) would cusp on
+    /// `path`; [`PassError::BadInput`] if its offset is not finite. The
+    /// settings are unchanged on error.
+    pub fn follow_pass<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        passes: &Passes<T>,
+        n: i32,
+    ) -> Result<(), PassError<T>> {
+        self.operator.set_pass(path, passes, n)?;
+        self.reacquire();
+        Ok(())
+    }
+
+    /// The pass followed (`None`: the reference itself, with the shift).
+    pub fn pass(&self) -> Option<i32> {
+        self.operator.pass()
+    }
+
+    /// Offset of the line followed from the reference, metres, left
+    /// positive: the pass's plus the line shift.
+    pub fn line_offset(&self) -> T {
+        self.operator.offset()
+    }
+
+    /// Acquires afresh on the next cycle, keeping the fix history.
+    fn reacquire(&mut self) {
+        self.tracker.reset();
+        self.law.reset();
+        self.leg = None;
+        if self.mode != Mode::EndOfPath {
+            self.mode = Mode::Acquiring;
+        }
+    }
+
+    /// A cycle while disengaged: the tracker follows usable fixes (so
+    /// engaging needs no acquisition), the output is neutral.
+    fn stand_by<const N: usize>(&mut self, path: &Path<T, N>, verdict: Verdict<T>) -> Command<T> {
+        let tracking = match verdict {
+            Verdict::Usable(f) | Verdict::Jumped(f) => {
+                if matches!(verdict, Verdict::Jumped(_)) {
+                    // Start afresh from this fix, as an acquisition would.
+                    self.reacquire();
+                    self.monitor.forget_accepted();
+                }
+                self.monitor.accept(f);
+                self.speed = f.speed;
+                let on_line = self.operator.onto_reference(&mut self.tracker, path, f);
+                match self.locate(path, &on_line) {
+                    Some(sit) if self.within_limits(&sit.cp) => {
+                        if self.mode != Mode::EndOfPath {
+                            self.mode = Mode::Following;
+                        }
+                        Some(sit.tracking)
+                    }
+                    _ => {
+                        self.reacquire();
+                        None
+                    }
+                }
+            }
+            Verdict::Unusable(_) => {
+                self.reacquire();
+                None
+            }
+        };
+        self.reason = Some(self.operator.disengaged_by());
+        self.speed_limit = T::ZERO;
+        self.saturated = false;
+        // The output is neutral: the limiter ramps from straight on engage.
+        self.limiter.seed(&self.vehicle, T::ZERO);
+        Command {
+            curvature: T::ZERO,
+            steer_angle: T::ZERO,
+            yaw_rate: T::ZERO,
+            wheel_speeds: (T::ZERO, T::ZERO),
+            speed_limit: T::ZERO,
+            status: GuidanceStatus::Standby,
+            reason: self.reason,
+            tracking,
         }
     }
 }

@@ -7,10 +7,11 @@
 //! |---|---|---|
 //! | `Acquiring` | start, [`crate::Guidance::reset`] | straighten, stop request |
 //! | `Following` | the path is acquired and every check passes | steering law, speed cap |
-//! | `Degraded` | the fix is missing, stale, non-finite or jumped | hold the last curvature and speed limit |
+//! | `Degraded` | the fix is missing, stale, non-finite, jumped or below the quality gate | hold the last curvature and speed limit |
 //! | `Lost` | `Degraded` for longer than `hold_time`; cross-track or heading error beyond its limit; the tracker lost the path | straighten, stop request |
 //! | `EndOfPath` | within `end_tolerance` of the end of an open path | hold the last curvature, stop request |
-//! | `Fault` | `now` or `dt` not finite, `dt <= 0`, or time going backwards (this cycle only; after `FAULT_CYCLES_TO_RESTART` such cycles in a row the new time base is taken and the guidance starts again in `Acquiring`) | hold the last curvature, stop request |
+//! | `Standby` | [`crate::Guidance::standby`], or a manual override | neutral (zero curvature), stop request; the tracker kept on the path |
+//! | `Fault` | a zero period, or time going backwards (this cycle only; after `FAULT_CYCLES_TO_RESTART` such cycles in a row the new time base is taken and the guidance starts again in `Acquiring`) | hold the last curvature, stop request |
 //!
 //! "Straighten" ramps the curvature to zero at the steering-rate limit;
 //! "stop request" is `speed_limit = 0`. Every command passes the limiter,
@@ -39,14 +40,27 @@
 //!
 //! A fix is *usable* if every field is finite, it is not older than
 //! `max_fix_age` at `now` (nor stamped more than `max_fix_age` after `now`),
-//! its time does not go backwards, and it is consistent with the last
-//! accepted fix (no jump).
+//! its time does not go backwards, its quality passes the gate
+//! (`min_solution`, `max_sigma`) and it is consistent with the last
+//! accepted fix (no jump). A cycle with [`FixUpdate::Unchanged`] (no new
+//! fix) uses the last new fix, if it was usable, dead-reckoned to `now`
+//! while it is younger than `max_fix_age`: at 20 Hz control and 10 Hz fixes
+//! every cycle is `Following`. [`FixUpdate::NoFix`] is a missing fix at once.
+//!
+//! Every command that is not plain following carries its
+//! [`Reason`](crate::guide::cycle::Reason) (`Command::reason`): for
+//! `Degraded` the current cause, for `Lost` what led there.
+//!
+//! Times are [`Micros`] (integer, wrapping); only differences of two
+//! instants are turned into seconds, so the checks are the same after 200
+//! days of uptime as at start-up.
 //!
 //! Caution: this supervisor is a guidance function, not a certified safety
 //! function; keep an independent emergency stop and the machine's own
 //! safety functions (e.g. ISO 25119, ISO 18497, ISO 3691-4, IEC 61508).
 
-use crate::guide::cycle::{Fix, GuidanceStatus};
+use crate::guide::cycle::{Fix, FixQuality, FixUpdate, GuidanceStatus, Reason, Solution};
+use crate::guide::time::Micros;
 use crate::num::real::{c, Real};
 use crate::steer::law::SteerError;
 use crate::steer::vehicle::Vehicle;
@@ -77,6 +91,16 @@ pub struct SupervisorConfig<T> {
     pub cusp_tolerance: T,
     /// Speed below which the vehicle counts as stopped at a cusp, m/s (> 0).
     pub stopped_speed: T,
+    /// Lowest solution steered with (`None`: no gate). A fix below it (or
+    /// [`Solution::Unrated`]) counts as missing, with
+    /// [`Reason::LowSolution`]: `Degraded`, then `Lost` after `hold_time`.
+    /// A carrier-phase machine would set `Some(Solution::Fixed)`, or
+    /// `Some(Solution::Float)` to ride through short float spells.
+    pub min_solution: Option<Solution>,
+    /// Largest position sigma steered with, metres (> 0; `None`: no gate).
+    /// A fix with a larger [`FixQuality::sigma`], or none, counts as
+    /// missing, with [`Reason::LargeSigma`].
+    pub max_sigma: Option<T>,
 }
 
 impl<T: Real> SupervisorConfig<T> {
@@ -84,7 +108,7 @@ impl<T: Real> SupervisorConfig<T> {
     /// fixes stale after 0.3 s, hold 0.5 s, cross-track limit 1.5 m,
     /// heading limit 1.0 rad, jump 0.5 m + 0.5 m/s, 5 confirming fixes, end
     /// and cusp tolerances 0.1 m (0.05 m for vehicles at most 2 m/s),
-    /// stopped below 0.05 m/s.
+    /// stopped below 0.05 m/s, no quality gate.
     pub fn default_for(vehicle: &Vehicle<T>) -> Self {
         let small = vehicle.max_speed() <= c(2.0);
         let tol = if small { c(0.05) } else { c(0.1) };
@@ -99,6 +123,8 @@ impl<T: Real> SupervisorConfig<T> {
             end_tolerance: tol,
             cusp_tolerance: tol,
             stopped_speed: c(0.05),
+            min_solution: None,
+            max_sigma: None,
         }
     }
 
@@ -117,6 +143,7 @@ impl<T: Real> SupervisorConfig<T> {
             self.end_tolerance,
             self.cusp_tolerance,
             self.stopped_speed,
+            self.max_sigma.unwrap_or(T::ONE),
         ];
         if all.iter().any(|v| !v.is_finite()) {
             return Err(SteerError::NonFinite);
@@ -131,7 +158,8 @@ impl<T: Real> SupervisorConfig<T> {
             && self.confirm_fixes >= 1
             && self.end_tolerance >= T::ZERO
             && self.cusp_tolerance >= T::ZERO
-            && self.stopped_speed > T::ZERO;
+            && self.stopped_speed > T::ZERO
+            && self.max_sigma.is_none_or(|s| s > T::ZERO);
         if ok {
             Ok(())
         } else {
@@ -143,16 +171,16 @@ impl<T: Real> SupervisorConfig<T> {
 /// The supervisor's state (the persistent part of [`GuidanceStatus`]).
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub(crate) enum Mode<T> {
+pub(crate) enum Mode {
     Acquiring,
     Following,
-    /// Holding since the given time, s.
-    Degraded(T),
+    /// Holding since the given time.
+    Degraded(Micros),
     Lost,
     EndOfPath,
 }
 
-impl<T> Mode<T> {
+impl Mode {
     pub(crate) fn status(&self) -> GuidanceStatus {
         match self {
             Mode::Acquiring => GuidanceStatus::Acquiring,
@@ -172,8 +200,20 @@ pub(crate) enum Verdict<T> {
     /// Finite and fresh but inconsistent with the last accepted fix; carries
     /// it extrapolated to `now`.
     Jumped(Fix<T>),
-    /// Missing, stale, non-finite or going back in time.
-    Unusable,
+    /// Missing, stale, non-finite, going back in time or below the
+    /// quality gate, for the reason given.
+    Unusable(Reason),
+}
+
+impl<T> Verdict<T> {
+    /// Why the fix cannot be steered with, if it cannot.
+    pub(crate) fn reason(&self) -> Option<Reason> {
+        match self {
+            Verdict::Usable(_) => None,
+            Verdict::Jumped(_) => Some(Reason::Jump),
+            Verdict::Unusable(r) => Some(*r),
+        }
+    }
 }
 
 /// The fix checks and their memory.
@@ -183,10 +223,15 @@ pub(crate) struct FixMonitor<T> {
     raw: Option<Fix<T>>,
     /// Consecutive finite, fresh fixes consistent with the one before.
     pub(crate) agreeing: u32,
+    /// The last new fix, if it was usable when it came: dead reckoning on
+    /// cycles without a new fix starts from it.
+    held: Option<Fix<T>>,
+    /// Why the last new fix was not usable (for cycles without a new one).
+    refused: Reason,
 }
 
 fn predicts<T: Real>(from: &Fix<T>, to: &Fix<T>, tol: T) -> bool {
-    let dt = to.time - from.time;
+    let dt = to.time.seconds_since::<T>(from.time);
     let (s, co) = from.heading.sin_cos();
     let px = from.x + from.speed * dt * co;
     let py = from.y + from.speed * dt * s;
@@ -201,12 +246,17 @@ impl<T: Real> FixMonitor<T> {
             accepted: None,
             raw: None,
             agreeing: 0,
+            held: None,
+            refused: Reason::NoFix,
         }
     }
 
-    /// Forgets the last accepted fix (after re-acquisition accepts a new one).
+    /// Forgets the last accepted fix (after re-acquisition accepts a new
+    /// one). The last new fix, even if it was refused as a jump, becomes
+    /// the one cycles without a new fix dead-reckon from.
     pub(crate) fn forget_accepted(&mut self) {
         self.accepted = None;
+        self.held = self.raw;
     }
 
     /// Marks `fix` as accepted (the guidance steered with it).
@@ -214,39 +264,90 @@ impl<T: Real> FixMonitor<T> {
         self.accepted = Some(fix);
     }
 
-    /// Checks one cycle's fix at time `now` (s); `curvature` (1/m) is the
-    /// body curvature being driven, for the latency compensation.
+    /// Checks one cycle's fix update at time `now`; `curvature` (1/m) is
+    /// the body curvature being driven, for the latency compensation.
     pub(crate) fn check(
         &mut self,
-        fix: Option<&Fix<T>>,
-        now: T,
+        update: &FixUpdate<T>,
+        now: Micros,
         cfg: &SupervisorConfig<T>,
         curvature: T,
     ) -> Verdict<T> {
-        let Some(f) = fix else {
-            return Verdict::Unusable;
+        match update {
+            FixUpdate::NoFix => {
+                self.held = None;
+                self.refused = Reason::NoFix;
+                Verdict::Unusable(Reason::NoFix)
+            }
+            FixUpdate::Unchanged => self.check_held(now, cfg, curvature),
+            FixUpdate::New(f) => {
+                let verdict = self.check_new(f, now, cfg, curvature);
+                match verdict {
+                    Verdict::Usable(_) => self.held = Some(*f),
+                    Verdict::Jumped(_) | Verdict::Unusable(_) => {
+                        self.held = None;
+                        self.refused = verdict.reason().unwrap_or(Reason::BadFix);
+                    }
+                }
+                verdict
+            }
+        }
+    }
+
+    /// No new fix this cycle: the last one, dead-reckoned to `now`, while
+    /// it is fresh. It was checked when it came; it is not counted again
+    /// towards `agreeing`.
+    fn check_held(&self, now: Micros, cfg: &SupervisorConfig<T>, curvature: T) -> Verdict<T> {
+        let Some(f) = self.held else {
+            return Verdict::Unusable(self.refused);
         };
-        let finite = f.x.is_finite()
-            && f.y.is_finite()
-            && f.heading.is_finite()
-            && f.speed.is_finite()
-            && f.time.is_finite();
-        let age = now - f.time;
-        let backwards = self.raw.is_some_and(|r| f.time < r.time);
+        let age = now.seconds_since::<T>(f.time);
+        if age > cfg.max_fix_age || age < -cfg.max_fix_age {
+            return Verdict::Unusable(Reason::StaleFix);
+        }
+        Verdict::Usable(extrapolate(&f, now, curvature))
+    }
+
+    fn check_new(
+        &mut self,
+        f: &Fix<T>,
+        now: Micros,
+        cfg: &SupervisorConfig<T>,
+        curvature: T,
+    ) -> Verdict<T> {
+        let finite =
+            f.x.is_finite() && f.y.is_finite() && f.heading.is_finite() && f.speed.is_finite();
+        let age = now.seconds_since::<T>(f.time);
+        let backwards = self.raw.is_some_and(|r| f.time.micros_since(r.time) < 0);
         let fresh = age <= cfg.max_fix_age;
         // A fix stamped later than `now` by more than the allowed age is a
         // clock fault (a receiver time glitch). Kept as the last raw fix it
         // would make every later, genuine fix look as if it went back in time.
         let from_future = age < -cfg.max_fix_age;
-        if !finite || !fresh || backwards || from_future {
-            if !finite || backwards || from_future {
-                self.agreeing = 0;
-            }
-            return Verdict::Unusable;
+        if !finite || backwards || from_future {
+            self.agreeing = 0;
+        }
+        // A late fix is usually older than the one before it too: report
+        // it as stale, the more useful cause.
+        if !finite {
+            return Verdict::Unusable(Reason::BadFix);
+        }
+        if from_future || !fresh {
+            return Verdict::Unusable(Reason::StaleFix);
+        }
+        if backwards {
+            return Verdict::Unusable(Reason::BadFix);
+        }
+        if let Err(reason) = gate(&f.quality, cfg) {
+            // Not counted towards re-acquisition, but remembered as the
+            // last raw fix so the first good one after it can agree with it.
+            self.agreeing = 0;
+            self.raw = Some(*f);
+            return Verdict::Unusable(reason);
         }
         // Consistency with the previous raw fix (for re-acquisition).
         let agrees = self.raw.is_some_and(|r| {
-            let tol = cfg.max_jump + cfg.jump_growth * (f.time - r.time);
+            let tol = cfg.max_jump + cfg.jump_growth * f.time.seconds_since::<T>(r.time);
             predicts(&r, f, tol)
         });
         self.agreeing = if agrees {
@@ -258,7 +359,8 @@ impl<T: Real> FixMonitor<T> {
         let now_fix = extrapolate(f, now, curvature);
         match self.accepted {
             Some(a) => {
-                let tol = cfg.max_jump + cfg.jump_growth * (f.time - a.time).max(T::ZERO);
+                let since = f.time.seconds_since::<T>(a.time).max(T::ZERO);
+                let tol = cfg.max_jump + cfg.jump_growth * since;
                 if predicts(&a, f, tol) {
                     Verdict::Usable(now_fix)
                 } else {
@@ -268,6 +370,24 @@ impl<T: Real> FixMonitor<T> {
             None => Verdict::Usable(now_fix),
         }
     }
+}
+
+/// The quality gate: `Err` with the reason if the fix's rating is below
+/// the configured minimum.
+fn gate<T: Real>(q: &FixQuality<T>, cfg: &SupervisorConfig<T>) -> Result<(), Reason> {
+    if q.solution == Solution::Invalid {
+        return Err(Reason::NoFix);
+    }
+    if cfg.min_solution.is_some_and(|min| !q.solution.meets(min)) {
+        return Err(Reason::LowSolution);
+    }
+    if let Some(max) = cfg.max_sigma {
+        let ok = q.sigma.is_some_and(|s| s.is_finite() && s <= max);
+        if !ok {
+            return Err(Reason::LargeSigma);
+        }
+    }
+    Ok(())
 }
 
 /// Dead-reckons a fix forward to `now` (latency compensation; the age is
@@ -280,8 +400,8 @@ impl<T: Real> FixMonitor<T> {
 /// laws read that as a heading error and settle off the path on every
 /// curve (by `k_theta / k_d` times it for the Frenet law: 8 cm in the
 /// field scenario's headland turns).
-fn extrapolate<T: Real>(f: &Fix<T>, now: T, curvature: T) -> Fix<T> {
-    let age = (now - f.time).max(T::ZERO);
+fn extrapolate<T: Real>(f: &Fix<T>, now: Micros, curvature: T) -> Fix<T> {
+    let age = now.seconds_since::<T>(f.time).max(T::ZERO);
     let distance = f.speed * age;
     let turn = if curvature.is_finite() {
         curvature * distance
@@ -300,7 +420,7 @@ fn extrapolate<T: Real>(f: &Fix<T>, now: T, curvature: T) -> Fix<T> {
         x: f.x + chord * co,
         y: f.y + chord * s,
         heading: f.heading + turn,
-        time: f.time + age,
+        time: if now.is_after(f.time) { now } else { f.time },
         ..*f
     }
 }
@@ -309,14 +429,17 @@ fn extrapolate<T: Real>(f: &Fix<T>, now: T, curvature: T) -> Fix<T> {
 mod tests {
     use super::*;
 
+    /// Microseconds of `t` seconds.
+    fn us(t: f64) -> Micros {
+        Micros((t * 1e6).round() as u32)
+    }
+
     fn fix(x: f64, t: f64) -> Fix<f64> {
-        Fix {
-            x,
-            y: 0.0,
-            heading: 0.0,
-            speed: 1.0,
-            time: t,
-        }
+        Fix::new(x, 0.0, 0.0, 1.0, us(t))
+    }
+
+    fn new(f: Fix<f64>) -> FixUpdate<f64> {
+        FixUpdate::New(f)
     }
 
     #[test]
@@ -334,6 +457,16 @@ mod tests {
             ..cfg
         };
         assert_eq!(bad.check(), Err(SteerError::NonFinite));
+        let bad = SupervisorConfig {
+            max_sigma: Some(0.0),
+            ..cfg
+        };
+        assert_eq!(bad.check(), Err(SteerError::OutOfRange));
+        let bad = SupervisorConfig {
+            max_sigma: Some(f64::INFINITY),
+            ..cfg
+        };
+        assert_eq!(bad.check(), Err(SteerError::NonFinite));
     }
 
     #[test]
@@ -343,27 +476,110 @@ mod tests {
         let mut m = FixMonitor::new();
         let a = fix(0.0, 0.0);
         assert!(matches!(
-            m.check(Some(&a), 0.0, &cfg, 0.0),
+            m.check(&new(a), us(0.0), &cfg, 0.0),
             Verdict::Usable(_)
         ));
         m.accept(a);
         let b = fix(0.1, 0.1);
         assert!(matches!(
-            m.check(Some(&b), 0.1, &cfg, 0.0),
+            m.check(&new(b), us(0.1), &cfg, 0.0),
             Verdict::Usable(_)
         ));
         let far = fix(5.2, 0.2);
         assert!(matches!(
-            m.check(Some(&far), 0.2, &cfg, 0.0),
+            m.check(&new(far), us(0.2), &cfg, 0.0),
             Verdict::Jumped(_)
         ));
         assert_eq!(m.agreeing, 1);
+        // No new fix after a jumped one: still not usable, for the jump.
+        assert_eq!(
+            m.check(&FixUpdate::Unchanged, us(0.25), &cfg, 0.0),
+            Verdict::Unusable(Reason::Jump)
+        );
         let stale = fix(0.3, 0.3);
-        assert_eq!(m.check(Some(&stale), 1.0, &cfg, 0.0), Verdict::Unusable);
+        assert_eq!(
+            m.check(&new(stale), us(1.0), &cfg, 0.0),
+            Verdict::Unusable(Reason::StaleFix)
+        );
         let nan = fix(f64::NAN, 1.0);
-        assert_eq!(m.check(Some(&nan), 1.0, &cfg, 0.0), Verdict::Unusable);
+        assert_eq!(
+            m.check(&new(nan), us(1.0), &cfg, 0.0),
+            Verdict::Unusable(Reason::BadFix)
+        );
         assert_eq!(m.agreeing, 0);
-        assert_eq!(m.check(None, 1.0, &cfg, 0.0), Verdict::Unusable);
+        assert_eq!(
+            m.check(&FixUpdate::NoFix, us(1.0), &cfg, 0.0),
+            Verdict::Unusable(Reason::NoFix)
+        );
+    }
+
+    #[test]
+    fn no_new_fix_dead_reckons_until_stale() {
+        let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
+        let cfg = SupervisorConfig::default_for(&v); // max_fix_age 0.3 s
+        let mut m = FixMonitor::new();
+        assert!(matches!(
+            m.check(&new(fix(0.0, 0.0)), us(0.0), &cfg, 0.0),
+            Verdict::Usable(_)
+        ));
+        // 0.2 s later without a new fix: 1 m/s straight on, 0.2 m further.
+        match m.check(&FixUpdate::Unchanged, us(0.2), &cfg, 0.0) {
+            Verdict::Usable(f) => assert!((f.x - 0.2).abs() < 1e-12 && f.time == us(0.2)),
+            other => panic!("{other:?}"),
+        }
+        assert_eq!(m.agreeing, 1, "a held fix is not counted again");
+        assert_eq!(
+            m.check(&FixUpdate::Unchanged, us(0.31), &cfg, 0.0),
+            Verdict::Unusable(Reason::StaleFix)
+        );
+    }
+
+    #[test]
+    fn quality_gate() {
+        let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
+        let cfg = SupervisorConfig {
+            min_solution: Some(Solution::Float),
+            max_sigma: Some(0.1),
+            ..SupervisorConfig::default_for(&v)
+        };
+        let rated = |solution, sigma| {
+            fix(0.0, 0.0).with_quality(FixQuality {
+                solution,
+                sigma,
+                ..FixQuality::default()
+            })
+        };
+        let cases = [
+            (rated(Solution::Fixed, Some(0.02)), None),
+            (rated(Solution::Float, Some(0.1)), None),
+            (
+                rated(Solution::Differential, Some(0.02)),
+                Some(Reason::LowSolution),
+            ),
+            (
+                rated(Solution::Unrated, Some(0.02)),
+                Some(Reason::LowSolution),
+            ),
+            (rated(Solution::Invalid, Some(0.02)), Some(Reason::NoFix)),
+            (rated(Solution::Fixed, Some(0.11)), Some(Reason::LargeSigma)),
+            (rated(Solution::Fixed, None), Some(Reason::LargeSigma)),
+            (
+                rated(Solution::Fixed, Some(f64::NAN)),
+                Some(Reason::LargeSigma),
+            ),
+        ];
+        for (f, want) in cases {
+            let mut m = FixMonitor::new();
+            let got = m.check(&new(f), us(0.0), &cfg, 0.0).reason();
+            assert_eq!(got, want, "{:?}", f.quality);
+        }
+        // Without a gate an unrated fix is used.
+        let mut m = FixMonitor::new();
+        let open = SupervisorConfig::default_for(&v);
+        assert_eq!(
+            m.check(&new(fix(0.0, 0.0)), us(0.0), &open, 0.0).reason(),
+            None
+        );
     }
 
     #[test]
@@ -371,20 +587,14 @@ mod tests {
         // On a circle of radius 5 m about the origin, counter-clockwise at
         // 2 m/s: the fix at (5, 0) heading pi/2, 50 ms old, lands where the
         // circle is 0.1 m further on (elementary geometry: angle 0.02 rad).
-        let f = Fix {
-            x: 5.0,
-            y: 0.0,
-            heading: core::f64::consts::FRAC_PI_2,
-            speed: 2.0,
-            time: 0.0,
-        };
-        let e = extrapolate(&f, 0.05, 0.2);
+        let f = Fix::new(5.0, 0.0, core::f64::consts::FRAC_PI_2, 2.0, us(0.0));
+        let e = extrapolate(&f, us(0.05), 0.2);
         assert!((e.x - 5.0 * libm::cos(0.02)).abs() < 1e-9, "{e:?}");
         assert!((e.y - 5.0 * libm::sin(0.02)).abs() < 1e-9, "{e:?}");
         assert!((e.heading - (core::f64::consts::FRAC_PI_2 + 0.02)).abs() < 1e-15);
-        assert_eq!(e.time, 0.05);
+        assert_eq!(e.time, us(0.05));
         // Straight ahead when the curvature is zero (or not finite).
-        let s = extrapolate(&f, 0.05, f64::NAN);
+        let s = extrapolate(&f, us(0.05), f64::NAN);
         assert!(s.x == 5.0 && (s.y - 0.1).abs() < 1e-15 && s.heading == f.heading);
     }
 }

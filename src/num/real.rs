@@ -58,6 +58,13 @@ pub trait Real:
     fn to_f64(self) -> f64;
     /// Converts a small integer exactly.
     fn from_u32(v: u32) -> Self;
+    /// Converts a signed integer, rounding to the nearest representable
+    /// value (exact below 2^24 in magnitude for `f32`). One hardware
+    /// conversion on an `f32` FPU, where going through `f64` would not be.
+    #[inline]
+    fn from_i32(v: i32) -> Self {
+        Self::from_f64(f64::from(v))
+    }
     /// Square root; NaN for negative input.
     fn sqrt(self) -> Self;
     /// Absolute value.
@@ -198,6 +205,10 @@ impl Real for f32 {
     }
     #[inline]
     fn from_u32(v: u32) -> Self {
+        v as f32
+    }
+    #[inline]
+    fn from_i32(v: i32) -> Self {
         v as f32
     }
     #[inline]

@@ -8,7 +8,8 @@
 #![allow(dead_code)]
 
 use kappaline::{
-    Command, Direction, Fix, Guidance, GuidanceInput, GuidanceStatus, Path, SteeringLaw, Vehicle,
+    Command, Direction, Fix, FixUpdate, Guidance, GuidanceInput, GuidanceStatus, Micros, Path,
+    SteeringLaw, Vehicle,
 };
 
 /// Rear-axle state.
@@ -80,13 +81,13 @@ impl Sim {
 
     pub fn fix(&self) -> Fix<f64> {
         let (x, y) = self.control_point();
-        Fix {
+        Fix::new(
             x,
             y,
-            heading: self.state.heading,
-            speed: self.state.speed,
-            time: self.time,
-        }
+            self.state.heading,
+            self.state.speed,
+            micros(self.time),
+        )
     }
 
     /// Applies a command for one control period.
@@ -129,6 +130,17 @@ impl Sim {
     }
 }
 
+/// The instant `t` seconds after start-up, on the core's wrapping
+/// microsecond clock.
+pub fn micros(t: f64) -> Micros {
+    Micros((t * 1e6).round() as u64 as u32)
+}
+
+/// A control period of `dt` seconds in microseconds.
+pub fn period_us(dt: f64) -> u32 {
+    (dt * 1e6).round() as u32
+}
+
 /// Runs the closed loop until `distance` metres are driven or `max_time`
 /// seconds pass; `stop` ends it early on a status.
 pub fn run<L: SteeringLaw<f64>, const N: usize>(
@@ -140,11 +152,11 @@ pub fn run<L: SteeringLaw<f64>, const N: usize>(
 ) -> Vec<Sample> {
     let mut out = Vec::new();
     while sim.distance < distance && sim.time < max_time {
-        let input = GuidanceInput {
-            fix: Some(sim.fix()),
-            now: sim.time,
-            dt: sim.dt,
-        };
+        let input = GuidanceInput::new(
+            FixUpdate::New(sim.fix()),
+            micros(sim.time),
+            period_us(sim.dt),
+        );
         let cmd = guidance.step(path, &input);
         out.push(Sample {
             time: sim.time,

@@ -17,9 +17,9 @@ use cortex_m::peripheral::{syst::SystClkSource, SYST};
 use cortex_m_rt::{entry, exception, ExceptionFrame};
 use cortex_m_semihosting::{debug, hprintln};
 use kappaline::{
-    Cursor, Fix, FrenetFeedback, Guidance, GuidanceInput, GuidanceStatus, Path, PathBuilder, Pose,
-    PurePursuit, Real, Segment, Stanley, SteeringLaw, SupervisorConfig, TrackStatus, Tracker,
-    TrackerConfig, Vehicle,
+    Cursor, Fix, FixUpdate, FrenetFeedback, Guidance, GuidanceInput, GuidanceStatus, Micros, Path,
+    PathBuilder, Pose, PurePursuit, Real, Segment, Stanley, SteeringLaw, SupervisorConfig,
+    TrackStatus, Tracker, TrackerConfig, Vehicle,
 };
 
 /// Instructions per SysTick tick, times 10 (mps2: 40; micro:bit: 62.5).
@@ -277,29 +277,27 @@ fn guidance_with<L: SteeringLaw<f32>>(
     let mut g = Guidance::new(vehicle, law, TrackerConfig::tractor(), supervisor)
         .unwrap_or_else(|_| fail("guidance"));
     let dt = 0.1f32;
+    let period_us = 100_000u32;
     let speed = 2.0f32;
     let mut cursor = Cursor::start();
-    let mut now = 0.0f32;
-    let input = |cursor: &mut Cursor<f32>, now: f32| {
+    let mut now = Micros(0);
+    let input = |cursor: &mut Cursor<f32>, now: Micros| {
         let p = match cursor.advance(path, speed * dt) {
             Ok((p, _)) => p,
             Err(_) => fail("advance"),
         };
-        GuidanceInput {
-            fix: Some(Fix {
-                x: p.x - 0.1 * p.sin,
-                y: p.y + 0.1 * p.cos,
-                heading: p.heading(),
-                speed,
-                time: now,
-            }),
+        let fix = Fix::new(
+            p.x - 0.1 * p.sin,
+            p.y + 0.1 * p.cos,
+            p.heading(),
+            speed,
             now,
-            dt,
-        }
+        );
+        GuidanceInput::new(FixUpdate::New(fix), now, period_us)
     };
     // Settle into Following first (acquisition is not the steady cost).
     for _ in 0..20 {
-        now += dt;
+        now = now.add_micros(period_us);
         let i = input(&mut cursor, now);
         let _ = g.step(path, &i);
     }
@@ -307,14 +305,14 @@ fn guidance_with<L: SteeringLaw<f32>>(
         if part != "straight" {
             // Drive on to the clothoid that starts at station 30.
             while cursor.station(path) < 30.0 {
-                now += dt;
+                now = now.add_micros(period_us);
                 let i = input(&mut cursor, now);
                 let _ = g.step(path, &i);
             }
         }
         let mut following = 0u32;
         let n = count(syst, |_| {
-            now += dt;
+            now = now.add_micros(period_us);
             let i = input(&mut cursor, now);
             let cmd = g.step(path, &i);
             check(

@@ -328,6 +328,39 @@ pub struct GnssSpec {
     /// Constant roll bias, degrees.
     #[serde(default)]
     pub roll_bias_deg: f64,
+    /// The kind of solution the receiver reports (outside solution drops).
+    #[serde(default)]
+    pub solution: SolutionSpec,
+}
+
+/// A receiver solution kind by name (the core's `kappaline::Solution`).
+#[derive(Debug, Clone, Copy, Deserialize, PartialEq, Eq, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum SolutionSpec {
+    /// Carrier phase, ambiguities fixed.
+    #[default]
+    Fixed,
+    /// Carrier phase, ambiguities float.
+    Float,
+    /// Code with differential corrections.
+    Differential,
+    /// Code alone.
+    Autonomous,
+    /// Receiver dead reckoning.
+    Estimated,
+}
+
+impl SolutionSpec {
+    /// The core's solution kind.
+    pub fn core(self) -> kappaline::Solution {
+        match self {
+            SolutionSpec::Fixed => kappaline::Solution::Fixed,
+            SolutionSpec::Float => kappaline::Solution::Float,
+            SolutionSpec::Differential => kappaline::Solution::Differential,
+            SolutionSpec::Autonomous => kappaline::Solution::Autonomous,
+            SolutionSpec::Estimated => kappaline::Solution::Estimated,
+        }
+    }
 }
 
 fn default_bias_tau() -> f64 {
@@ -438,6 +471,10 @@ fn default_integral_band() -> f64 {
 pub struct SupervisorSpec {
     /// A fix older than this is stale, s.
     pub max_fix_age_s: Option<f64>,
+    /// Lowest solution steered with (absent: no gate).
+    pub min_solution: Option<SolutionSpec>,
+    /// Largest position sigma steered with, metres (absent: no gate).
+    pub max_sigma_m: Option<f64>,
     /// How long the last command is held without a usable fix, s.
     pub hold_time_s: Option<f64>,
     /// Largest cross-track error steered back from, metres.
@@ -525,6 +562,19 @@ pub enum FaultSpec {
         east_m: f64,
         /// Offset north, metres.
         north_m: f64,
+    },
+    /// The receiver's solution drops (from fixed to float, say): it
+    /// reports `solution` and its position is noisier by `extra_noise_m`.
+    SolutionDrop {
+        /// Start, s.
+        at_s: f64,
+        /// Length, s.
+        duration_s: f64,
+        /// The solution reported meanwhile.
+        solution: SolutionSpec,
+        /// Extra white position noise, metres per axis.
+        #[serde(default)]
+        extra_noise_m: f64,
     },
     /// The steering actuator stops moving.
     SteerStuck {

@@ -313,6 +313,7 @@ fn check_controller(c: &ControllerSpec, physics_hz: f64) -> Check {
         true,
     )?;
     opt("controller.supervisor.hold_time_s", sv.hold_time_s, false)?;
+    opt("controller.supervisor.max_sigma_m", sv.max_sigma_m, true)?;
     opt(
         "controller.supervisor.max_cross_track_m",
         sv.max_cross_track_m,
@@ -355,6 +356,15 @@ fn check_fault(field: &str, f: &FaultSpec) -> Check {
     let (at, dur) = match *f {
         FaultSpec::GnssDropout { at_s, duration_s }
         | FaultSpec::SteerStuck { at_s, duration_s } => (at_s, duration_s),
+        FaultSpec::SolutionDrop {
+            at_s,
+            duration_s,
+            extra_noise_m,
+            ..
+        } => {
+            non_negative(&format!("{field}.extra_noise_m"), extra_noise_m)?;
+            (at_s, duration_s)
+        }
         FaultSpec::GnssJump {
             at_s,
             duration_s,

@@ -14,6 +14,11 @@
 //!   stamped with the time it was taken.
 //! * Faults: dropouts (no samples) and jumps (a position offset held for a
 //!   while), at scheduled times.
+//! * Solution quality: each epoch reports the kind of solution (carrier-
+//!   phase fixed by default) and its position sigma (the model's white
+//!   noise, as a receiver's GST would estimate it). A solution drop (from
+//!   fixed to float, say) reports the lower kind and adds its extra white
+//!   noise for a while.
 //! * Heading and roll: truth plus white noise plus a constant bias.
 //!
 //! Every random draw comes from a ChaCha8 stream seeded by the scenario seed,
@@ -24,6 +29,8 @@ use std::collections::VecDeque;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, StandardNormal};
+
+use kappaline::Solution;
 
 use super::vehicle_model::BodyState;
 
@@ -50,6 +57,8 @@ pub struct GnssModel {
     pub roll_noise_rad: f64,
     /// Constant roll bias, rad.
     pub roll_bias_rad: f64,
+    /// The kind of solution reported outside solution drops.
+    pub solution: Solution,
 }
 
 /// Where the antenna sits on the body, metres from the reference point.
@@ -94,6 +103,18 @@ pub enum GnssFault {
         /// Offset north, metres.
         dy_m: f64,
     },
+    /// Samples in `[from_s, until_s)` report `solution` and carry
+    /// `extra_noise_m` more white noise per axis (reported in the sigma).
+    SolutionDrop {
+        /// Start, s.
+        from_s: f64,
+        /// End, s.
+        until_s: f64,
+        /// The solution reported meanwhile.
+        solution: Solution,
+        /// Extra white position noise, metres per axis.
+        extra_noise_m: f64,
+    },
 }
 
 /// One receiver epoch as firmware gets it.
@@ -111,6 +132,10 @@ pub struct Measurement {
     pub speed: f64,
     /// Body roll, rad, left side up positive.
     pub roll: f64,
+    /// The kind of solution.
+    pub solution: Solution,
+    /// The receiver's position sigma, metres per axis.
+    pub sigma_m: f64,
 }
 
 /// The sensors of one run, with their random state and delivery queue.
@@ -172,6 +197,10 @@ impl SensorSuite {
             gauss(&mut self.rng),
             gauss(&mut self.rng),
         ];
+        // Drawn only during a solution drop (so scenarios without one keep
+        // their noise sequence bit for bit).
+        let mut solution = m.solution;
+        let mut extra = 0.0;
         let mut dropped = false;
         let (mut jx, mut jy) = (0.0, 0.0);
         for f in &self.faults {
@@ -188,20 +217,38 @@ impl SensorSuite {
                     jx += dx_m;
                     jy += dy_m;
                 }
+                GnssFault::SolutionDrop {
+                    from_s,
+                    until_s,
+                    solution: s,
+                    extra_noise_m,
+                } if t >= from_s && t < until_s => {
+                    solution = s;
+                    extra += extra_noise_m;
+                }
                 _ => {}
             }
         }
         if dropped {
             return;
         }
+        let (ex, ey) = if extra > 0.0 {
+            (extra * gauss(&mut self.rng), extra * gauss(&mut self.rng))
+        } else {
+            (0.0, 0.0)
+        };
+        let m = &self.model;
         let (ax, ay) = self.mount.position(state, roll);
         let meas = Measurement {
             time_s: t,
-            x: ax + self.bias.0 + m.noise_m * n[0] + jx,
-            y: ay + self.bias.1 + m.noise_m * n[1] + jy,
+            x: ax + self.bias.0 + m.noise_m * n[0] + jx + ex,
+            y: ay + self.bias.1 + m.noise_m * n[1] + jy + ey,
             heading: wrap(state.heading + m.heading_bias_rad + m.heading_noise_rad * n[2]),
             speed: speed + m.speed_noise_m_s * n[3],
             roll: roll + m.roll_bias_rad + m.roll_noise_rad * n[4],
+            solution,
+            sigma_m: (m.noise_m * m.noise_m + m.bias_sigma_m * m.bias_sigma_m + extra * extra)
+                .sqrt(),
         };
         self.pending.push_back((t + m.latency_s, meas));
     }
