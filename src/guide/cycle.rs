@@ -165,7 +165,7 @@ pub enum FixUpdate<T> {
 /// // A cycle at t = 1 s with a new fix, 50 ms (20 Hz) control period:
 /// let input = GuidanceInput::new(FixUpdate::New(fix), Micros(1_000_000), 50_000);
 /// // The next cycle, no new fix yet:
-/// let next = GuidanceInput::new(FixUpdate::Unchanged, Micros(1_050_000), 50_000);
+/// let next = GuidanceInput::<f32>::new(FixUpdate::Unchanged, Micros(1_050_000), 50_000);
 /// assert!(!input.manual_override && !next.manual_override);
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
