@@ -16,7 +16,7 @@
 
 pub(crate) mod cycle;
 pub mod guidance;
-pub(crate) mod operator;
+pub mod operator;
 pub mod supervisor;
 pub mod time;
 

@@ -48,7 +48,7 @@
 //! every cycle is `Following`. [`FixUpdate::NoFix`] is a missing fix at once.
 //!
 //! Every command that is not plain following carries its
-//! [`Reason`](crate::guide::cycle::Reason) (`Command::reason`): for
+//! [`Reason`] (`Command::reason`): for
 //! `Degraded` the current cause, for `Lost` what led there.
 //!
 //! Times are [`Micros`] (integer, wrapping); only differences of two
