@@ -52,6 +52,7 @@ fn main() -> ! {
     clothoid_path(&mut syst);
     long_path(&mut syst);
     guidance(&mut syst);
+    nmea(&mut syst);
     hprintln!("all checks passed");
     debug::exit(debug::EXIT_SUCCESS);
     loop {
@@ -326,6 +327,66 @@ fn guidance_with<L: SteeringLaw<f32>>(
         hprintln!("{:<24}{:<20} {:>7}", label, part, n);
         check(following == REPS, "guidance following");
     }
+}
+
+/// Receiver input: one epoch of four sentences (GGA, VTG, HDT, GST)
+/// through the reader, and the assembler turning them into a fix (geodesy
+/// in f64, soft-float on these cores).
+// Its own stack frame: the 16 KiB of RAM cannot hold every test at once.
+#[inline(never)]
+fn nmea(syst: &mut SYST) {
+    use kappaline::io::nmea::{EpochAssembler, EpochConfig, HeadingSource, NmeaReader, Sentence};
+    use kappaline::{FixUpdate, Geodetic, LeverArm, LocalFrame};
+    const EPOCH: &[u8] =
+        b"$GNGGA,080000.10,4715.000298,N,00829.997621,E,4,16,0.7,452.0,M,0.0,M,1.0,1*56\r\n\
+$GNVTG,90.00,T,,M,4.860,N,9.000,K,D*1C\r\n\
+$GNHDT,90.000,T*12\r\n\
+$GNGST,080000.10,0.5,0.02,0.01,0.0,0.012,0.011,0.02*77\r\n";
+    let Some(frame) = Geodetic::from_degrees(47.25, 8.5, 450.0)
+        .ok()
+        .and_then(|g| LocalFrame::new(g).ok())
+    else {
+        fail("frame")
+    };
+    let Ok(arm) = LeverArm::new(1.0f32, 0.0, 2.0) else {
+        fail("arm")
+    };
+    let mut reader = NmeaReader::new();
+    let mut sentences: [Option<Sentence>; 4] = [None; 4];
+    let n = count(syst, |_| {
+        let mut k = 0;
+        for &b in EPOCH {
+            if let Some(r) = reader.push(b) {
+                match (r, sentences.get_mut(k)) {
+                    (Ok(s), Some(slot)) => *slot = Some(s),
+                    _ => fail("nmea sentence"),
+                }
+                k += 1;
+            }
+        }
+    });
+    report("NMEA reader, one epoch (4 sentences, 195 B)", n);
+    let config = EpochConfig {
+        frame,
+        arm,
+        heading: HeadingSource::TrueHeading,
+        latency_us: 0,
+        expect_gst: true,
+    };
+    let mut epochs = EpochAssembler::new(config);
+    let mut fixes = 0u32;
+    let m = count(syst, |i| {
+        for s in sentences.iter().flatten() {
+            epochs.push(s, kappaline::Micros(i));
+        }
+        if matches!(epochs.take(), FixUpdate::New(_)) {
+            fixes += 1;
+        }
+        // The next repetition is a new epoch.
+        epochs = EpochAssembler::new(config);
+    });
+    report("epoch assembler, 4 sentences into a fix", m);
+    check(fixes == REPS, "nmea fixes");
 }
 
 #[exception]
