@@ -27,7 +27,8 @@
 //! | [`PathBuilder`], [`Path`] | up to `N` segments placed at anchors computed in `f64` |
 //! | [`Cursor`] | a position on the path, advanced in O(1) per step; lookahead |
 //! | [`Tracker`] | windowed projection: station, cross-track, heading error, curvature |
-//! | [`Guidance`] | the per-cycle call: tracker, [`SteeringLaw`], limits, speed cap, supervisor |
+//! | [`Guidance`] | the per-cycle call: tracker, [`SteeringLaw`], limits, speed cap, supervisor, operator controls |
+//! | [`Micros`], [`FixUpdate`], [`FixQuality`] | the integer time base; new fix, no new fix or none; the receiver's rating |
 //! | [`PurePursuit`], [`Stanley`], [`FrenetFeedback`] | steering laws giving a curvature command |
 //! | [`Vehicle`] | wheelbase or track width, steering range and rate, control point |
 //! | [`fit_g1`], [`clothoid_spline`], [`corner_path`] | paths from poses and waypoints |
@@ -45,6 +46,9 @@
 //! * `defmt`: `defmt::Format` for the public types.
 //! * `fast-math`: micromath's `f32` trigonometry instead of libm's (faster,
 //!   about 1e-3 accurate: not for evaluation over long segments).
+//! * `nmea`: `io::nmea`, the NMEA 0183 reader and epoch assembler.
+//! * `embedded-hal`: `io::actuator`, steering and wheel outputs over
+//!   embedded-hal 1.0.
 //!
 //! # Safety of use
 //! This is not a certified safety function. A machine steered with it needs

@@ -448,3 +448,39 @@ fn no_fix_epochs_and_waiting_for_parts() {
         (Solution::Differential, Some(0.4))
     );
 }
+
+#[test]
+fn untimed_sentences_before_the_gga_belong_to_its_epoch() {
+    // HDT and VTG carry no time; a receiver may send them first. Two
+    // epochs in that order: each fix has its own epoch's heading, stamped
+    // from the arrival of its first sentence.
+    let mut a = assembler(
+        HeadingSource::TrueHeading,
+        LeverArm::new(0.0, 0.0, 0.0).unwrap(),
+        false,
+    );
+    for (k, hdg) in [(0u32, 10.0), (1, 20.0)] {
+        let t0 = Micros(k * 100_000);
+        feed(&mut a, &sentence(&format!("GPHDT,{hdg:.1},T")), t0);
+        feed(
+            &mut a,
+            &sentence("GPVTG,0.0,T,,M,1.0,N,,K,D"),
+            t0.add_micros(2_000),
+        );
+        assert!(matches!(a.take(), FixUpdate::Unchanged));
+        let g = format!(
+            "GPGGA,081500.{k}0,{},N,00{},E,4,09,1.1,0.0,M,0.0,M,,",
+            dm(LAT0),
+            dm(LON0)
+        );
+        feed(&mut a, &sentence(&g), t0.add_micros(5_000));
+        let FixUpdate::New(f) = a.take() else {
+            panic!("epoch {k}")
+        };
+        assert!(
+            (f.heading - (90.0f64 - hdg).to_radians()).abs() < 1e-12,
+            "epoch {k}"
+        );
+        assert_eq!(f.time, t0.sub_micros(20_000));
+    }
+}

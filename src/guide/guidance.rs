@@ -2,8 +2,12 @@
 //!
 //! [`Guidance::step`] runs, in a bounded amount of work whatever the input:
 //!
-//! 1. the supervisor's fix checks (finite, fresh, monotonic, no jump) and
-//!    latency compensation (the fix is dead-reckoned to `now`);
+//! 1. the supervisor's fix checks (finite, fresh, monotonic, quality gate,
+//!    no jump) and latency compensation (the fix, new or the last one on a
+//!    cycle without a new fix, is dead-reckoned to `now`); then the
+//!    operator state (standby or manual override: neutral command, the
+//!    tracker kept on the path) and the line offset (pass, line shift:
+//!    see [`crate::guide::operator`]);
 //! 2. the [`Tracker`] update of the control point (lookahead set from the
 //!    law's speed schedule);
 //! 3. the projection of the control point, the law's reference point and

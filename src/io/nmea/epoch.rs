@@ -53,6 +53,8 @@ pub struct EpochConfig<T> {
 
 #[derive(Debug, Clone, Copy, Default)]
 struct Partial {
+    /// Sentences taken into this epoch.
+    count: u8,
     time: Option<TimeOfDay>,
     started: Micros,
     gga: Option<Gga>,
@@ -61,6 +63,12 @@ struct Partial {
     hdt: Option<Hdt>,
     gst: Option<Gst>,
     done: bool,
+}
+
+impl Partial {
+    fn is_empty(&self) -> bool {
+        self.count == 0
+    }
 }
 
 /// Sentences in, fixes out; see the module docs.
@@ -118,22 +126,23 @@ impl<T: Real> EpochAssembler<T> {
             Sentence::Gst(_, g) => g.time,
             Sentence::Vtg(..) | Sentence::Hdt(..) => None,
         };
-        let fresh =
-            self.epoch.time.is_none() && self.epoch.gga.is_none() && self.epoch.rmc.is_none();
-        if time.is_some() && (time != self.epoch.time || fresh) {
-            self.epoch = Partial {
-                time,
-                started: at,
-                ..Partial::default()
-            };
-        } else if self.epoch.done && time.is_none() {
-            // VTG/HDT after a finished epoch: the start of the next one.
-            self.epoch = Partial {
-                started: at,
-                ..Partial::default()
-            };
+        match (time, self.epoch.time) {
+            // The same epoch.
+            (Some(t), Some(current)) if t == current => {}
+            // A new epoch: the one before is dropped if it never completed.
+            (Some(_), Some(_)) => self.restart(time, at),
+            (Some(_), None) if self.epoch.done => self.restart(time, at),
+            // Untimed sentences (VTG, HDT) came first: they belong to it.
+            (Some(_), None) => self.epoch.time = time,
+            // VTG or HDT after a finished epoch: the start of the next one.
+            (None, _) if self.epoch.done => self.restart(None, at),
+            (None, _) => {}
+        }
+        if self.epoch.is_empty() {
+            self.epoch.started = at;
         }
         let e = &mut self.epoch;
+        e.count = e.count.saturating_add(1);
         match *sentence {
             Sentence::Gga(_, g) => e.gga = Some(g),
             Sentence::Rmc(_, r) => e.rmc = Some(r),
@@ -147,6 +156,14 @@ impl<T: Real> EpochAssembler<T> {
                 self.ready = Some(update);
             }
         }
+    }
+
+    fn restart(&mut self, time: Option<TimeOfDay>, at: Micros) {
+        self.epoch = Partial {
+            time,
+            started: at,
+            ..Partial::default()
+        };
     }
 
     /// The newest epoch's fix since the last call ([`FixUpdate::New`], or
