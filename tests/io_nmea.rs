@@ -325,6 +325,8 @@ fn epoch_to_a_fix_in_the_local_frame() {
     // 3.888 kn = 2.0002 m/s (1 kn = 1852 m / 3600 s).
     assert!((f.speed - 3.888 * 1852.0 / 3600.0).abs() < 1e-12);
     assert_eq!(f.time, Micros(5_000_000 - 20_000));
+    // The receiver's own time of the epoch: 08:15:00.00 UTC.
+    assert_eq!(a.fix_epoch_time(), Some((8 * 3600 + 15 * 60) * 1000));
     let q = f.quality;
     assert_eq!(
         (q.solution, q.satellites, q.hdop, q.correction_age),

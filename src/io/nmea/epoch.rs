@@ -104,6 +104,8 @@ pub struct EpochAssembler<T> {
     config: EpochConfig<T>,
     epoch: Partial,
     ready: Option<FixUpdate<T>>,
+    /// UTC time of the epoch whose update is (or was last) ready.
+    ready_time: Option<TimeOfDay>,
     last_heading: Option<f64>,
 }
 
@@ -114,6 +116,7 @@ impl<T: Real> EpochAssembler<T> {
             config,
             epoch: Partial::default(),
             ready: None,
+            ready_time: None,
             last_heading: None,
         }
     }
@@ -154,6 +157,7 @@ impl<T: Real> EpochAssembler<T> {
             if let Some(update) = self.complete() {
                 self.epoch.done = true;
                 self.ready = Some(update);
+                self.ready_time = self.epoch.time;
             }
         }
     }
@@ -172,6 +176,13 @@ impl<T: Real> EpochAssembler<T> {
     /// [`crate::Guidance::step`].
     pub fn take(&mut self) -> FixUpdate<T> {
         self.ready.take().unwrap_or(FixUpdate::Unchanged)
+    }
+
+    /// The receiver's UTC time of day (ms) of the epoch behind the last
+    /// update made ready (what [`EpochAssembler::take`] returns or
+    /// returned last), if its sentences carried one.
+    pub fn fix_epoch_time(&self) -> Option<TimeOfDay> {
+        self.ready_time
     }
 
     /// The UTC time of day of the epoch being collected, ms, if known.
