@@ -89,6 +89,7 @@ pub use num::*;
 pub use path::{
     fresnel, generalized_fresnel, AnchoredSegment, Continuity, Cursor, Direction, Path,
     PathBuilder, PathError, PathPoint, Pose, Segment, SegmentKind, Travel, MAX_COORDINATE,
+    MAX_SEGMENT_LENGTH,
 };
 pub use steer::{
     local_speed_limit, speed_cap, Chassis, FrenetFeedback, Limited, PurePursuit, Stanley,

@@ -80,12 +80,14 @@ struct Anchor64 {
 }
 
 impl Anchor64 {
+    /// The anchor at a pose, its heading wrapped exactly (see
+    /// [`wrap_exactly`]) so that the turns added to it keep their digits.
     fn from_pose(p: Pose<f64>) -> Self {
         Self {
             station: 0.0,
             x: p.x,
             y: p.y,
-            theta: p.heading,
+            theta: wrap_exactly(p.heading),
         }
     }
 
@@ -255,7 +257,8 @@ impl<T: Real, const N: usize> PathBuilder<T, N> {
     }
 
     /// Where the next segment would start: `(x, y, heading)` in metres and
-    /// radians (heading unwrapped, the sum of all turns since the start).
+    /// radians (heading unwrapped: the start heading, wrapped into
+    /// `[-pi, pi]`, plus all turns since the start).
     pub fn end_pose(&self) -> Pose<f64> {
         Pose::new(self.next.x, self.next.y, self.next.theta)
     }
@@ -617,6 +620,21 @@ pub const MAX_COORDINATE: f64 = 1.0e7;
 #[inline]
 pub(crate) fn within_plane(v: f64) -> bool {
     libm::fabs(v) <= MAX_COORDINATE
+}
+
+/// `theta` wrapped into `[-pi, pi]` as the angle whose sine and cosine
+/// libm gives for it (unchanged if already in `(-pi, pi]`). libm reduces
+/// its argument exactly (by a many-digit `2 pi`), and the path places a
+/// segment at `sincos(theta)`; wrapping with a rounded `2 pi` instead is
+/// off by `k ulp(2 pi)` after `k` turns (0.25 mrad at 10^12 turns), and a
+/// heading of many turns plus a small turn loses the small turn. Build
+/// time only (two libm calls).
+pub(crate) fn wrap_exactly(theta: f64) -> f64 {
+    if theta > -core::f64::consts::PI && theta <= core::f64::consts::PI {
+        return theta;
+    }
+    let (s, c) = libm::sincos(theta);
+    libm::atan2(s, c)
 }
 
 fn check_joint(

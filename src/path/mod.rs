@@ -20,4 +20,4 @@ pub use cursor::{Cursor, Travel};
 pub use error::PathError;
 pub use fresnel::{fresnel, generalized_fresnel};
 pub use pose::{Direction, PathPoint, Pose};
-pub use segment::{Segment, SegmentKind};
+pub use segment::{Segment, SegmentKind, MAX_SEGMENT_LENGTH};
