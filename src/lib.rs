@@ -87,8 +87,8 @@ pub use guide::{
 };
 pub use num::*;
 pub use path::{
-    fresnel, generalized_fresnel, AnchoredSegment, Continuity, Cursor, Direction, Path,
-    PathBuilder, PathError, PathPoint, Pose, Segment, SegmentKind, Travel, MAX_COORDINATE,
+    fresnel, generalized_fresnel, AnchoredBuilder, AnchoredSegment, Continuity, Cursor, Direction,
+    Path, PathBuilder, PathError, PathPoint, Pose, Segment, SegmentKind, Travel, MAX_COORDINATE,
     MAX_SEGMENT_LENGTH,
 };
 pub use steer::{
