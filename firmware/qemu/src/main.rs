@@ -11,6 +11,8 @@
 #![no_std]
 #![no_main]
 
+mod blob_check;
+
 use core::f32::consts::PI;
 
 use cortex_m::peripheral::{syst::SystClkSource, SYST};
@@ -52,6 +54,7 @@ fn main() -> ! {
     clothoid_path(&mut syst);
     long_path(&mut syst);
     guidance(&mut syst);
+    blob_check::run(&mut syst);
     hprintln!("all checks passed");
     debug::exit(debug::EXIT_SUCCESS);
     loop {
