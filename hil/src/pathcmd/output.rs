@@ -97,7 +97,10 @@ pub fn rust_const<const N: usize, const M: usize>(d: &Described<'_, N, M>) -> St
     let _ = writeln!(s, "/// Segments: `(x, y, heading, length, kappa0, sigma, reverse)`; metres, radians, 1/m, 1/m^2.");
     let _ = writeln!(s, "#[rustfmt::skip]");
     // Exact values such as pi/2 look like approximations to clippy.
-    let _ = writeln!(s, "#[allow(clippy::approx_constant, clippy::excessive_precision)]");
+    let _ = writeln!(
+        s,
+        "#[allow(clippy::approx_constant, clippy::excessive_precision)]"
+    );
     let _ = writeln!(
         s,
         "pub const {name}_SEGMENTS: [(f64, f64, f64, f64, f64, f64, bool); {n}] = ["
