@@ -556,3 +556,25 @@ proptest! {
         prop_assert_eq!(p32, w32);
     }
 }
+
+/// The README's size table (`cargo test --test io_blob sizes -- --nocapture`).
+#[test]
+fn sizes() {
+    use core::mem::size_of;
+    let per_f32 = size_of::<Path<f32, 17>>() - size_of::<Path<f32, 16>>();
+    let per_f64 = size_of::<Path<f64, 17>>() - size_of::<Path<f64, 16>>();
+    let decoder = size_of::<Decoder<f32, 16>>() - size_of::<Path<f32, 16>>();
+    let field = std::fs::read(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/firmware/qemu/data/meadow.kpath"
+    ))
+    .unwrap();
+    println!(
+        "bytes per segment: blob {RECORD_LEN}, Path<f32> {per_f32}, Path<f64> {per_f64}; \
+         decoder beyond its path {decoder}; sample field blob {}",
+        field.len()
+    );
+    assert_eq!((RECORD_LEN, per_f32, per_f64), (25, 32, 64));
+    assert_eq!(field.len(), encoded_len(11, true));
+    assert!(decoder <= 320, "{decoder}");
+}
