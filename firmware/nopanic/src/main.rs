@@ -23,10 +23,10 @@ use core::ptr::{addr_of, addr_of_mut};
 use cortex_m_rt::entry;
 use kappaline::io::blob::{decode, encode, Decoder};
 use kappaline::{
-    local_speed_limit, speed_cap, AnchoredBuilder, AnchoredSegment, Continuity, Cursor, Direction,
-    Fix, FrenetFeedback, Guidance, GuidanceInput, Path, PathBuilder, Pose, PurePursuit, Real,
-    Segment, Stanley, SteerLimiter, SteeringInput, SteeringLaw, SupervisorConfig, Tracker,
-    TrackerConfig, Vehicle,
+    control_point, local_speed_limit, speed_cap, AnchoredBuilder, AnchoredSegment, Continuity,
+    Cursor, Direction, Fix, FrenetFeedback, Geodetic, Guidance, GuidanceInput, LeverArm,
+    LocalFrame, Passes, Path, PathBuilder, Pose, PurePursuit, Real, Segment, Stanley, SteerLimiter,
+    SteeringInput, SteeringLaw, SupervisorConfig, Tracker, TrackerConfig, Vehicle,
 };
 
 /// Segments the paths hold.
@@ -233,6 +233,31 @@ fn laws() {
     sink(s + c + f(147).atan2(f(148)));
 }
 
+/// The receiver's side of a cycle: geodetic fix to the local plane, antenna
+/// to control point, and tracking a field pass on its reference.
+#[inline(never)]
+fn receiver_and_pass(path: &Path<f32, N>) {
+    let origin = Geodetic::from_degrees(f64::from(f(150)), f64::from(f(151)), f64::from(f(152)));
+    if let Ok(frame) = origin.and_then(LocalFrame::new) {
+        let fix = Geodetic::from_degrees(f64::from(f(153)), f64::from(f(154)), f64::from(f(155)));
+        if let Ok(e) = fix.and_then(|g| frame.to_enu(&g)) {
+            sink(e.east as f32 + e.north as f32 + e.up as f32);
+        }
+    }
+    if let Ok(arm) = LeverArm::new(f(156), f(157), f(158)) {
+        if let Ok(c) = control_point((f(159), f(160), f(161)), f(162), f(163), &arm) {
+            sink(c.x + c.y + c.z);
+        }
+    }
+    if let (Ok(passes), Ok(mut t)) = (Passes::new(f(164)), Tracker::new(TrackerConfig::tractor())) {
+        let pass = passes.pass(i32::from(byte(165)) - 128);
+        if let Ok((t, p)) = pass.update(&mut t, path, &Pose::new(f(166), f(167), f(168))) {
+            sink(t.station);
+            core::hint::black_box(p);
+        }
+    }
+}
+
 /// `Guidance::step` with one law, over a few cycles of opaque input.
 #[inline(never)]
 fn guidance<L: SteeringLaw<f32>>(path: &Path<f32, N>, law: L, base: usize) {
@@ -313,6 +338,7 @@ fn main() -> ! {
     laws();
     for path in [built, stored].iter().flatten() {
         per_cycle(path);
+        receiver_and_pass(path);
         guidance(path, PurePursuit::<f32>::tractor(), 300);
         guidance(path, Stanley::<f32>::tractor(), 340);
         guidance(path, FrenetFeedback::<f32>::tractor(), 380);
