@@ -91,6 +91,20 @@ fn assert_path_finite<T: Real, const M: usize>(p: &Path<T, M>) {
 /// chunks of several patterns, which must give exactly the whole result.
 /// A blob that decodes in `f64` re-encodes to the same bytes.
 pub fn blob(data: &[u8]) {
+    blob_as_given(data);
+    // The same bytes with their last four replaced by the CRC of the rest:
+    // mutations then reach the checks behind the CRC (segment values,
+    // anchors, flags, re-encoding) instead of stopping at it.
+    if data.len() > 4 {
+        let mut fixed = data.to_vec();
+        let n = fixed.len() - 4;
+        let crc = crc32fast::hash(&fixed[..n]);
+        fixed[n..].copy_from_slice(&crc.to_le_bytes());
+        blob_as_given(&fixed);
+    }
+}
+
+fn blob_as_given(data: &[u8]) {
     let whole32 = decode::<f32, N>(data);
     let whole64 = decode::<f64, N>(data);
     if let Ok((p, info)) = &whole64 {
