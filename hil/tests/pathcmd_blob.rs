@@ -1,6 +1,6 @@
 //! `build-path` writes a ready loader `fn` and a path blob.
 //!
-//! The committed outputs (`tests/generated/orchard_path.rs` and `.kpath`,
+//! The committed outputs (`tests/pathcmd_generated/orchard_path.rs` and `.kpath`,
 //! and `firmware/qemu/data/meadow.kpath`, which the QEMU firmware decodes
 //! from flash) are regenerated here and must match byte for byte, so they
 //! stay what the command writes. The generated file is compiled into this
@@ -17,7 +17,7 @@ use kappaline::io::blob::{decode, Decoder, Progress};
 use kappaline::Path;
 
 mod orchard {
-    include!("generated/orchard_path.rs");
+    include!("pathcmd_generated/orchard_path.rs");
 }
 
 fn out_dir(tag: &str) -> PathBuf {
@@ -43,11 +43,11 @@ fn the_committed_orchard_files_are_what_build_path_writes() {
         &["--input", "data/orchard_rows.csv", "--name", "orchard"],
         &rs,
     );
-    let here = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/generated");
+    let here = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/pathcmd_generated");
     assert_eq!(
         std::fs::read_to_string(&rs).unwrap(),
         std::fs::read_to_string(here.join("orchard_path.rs")).unwrap(),
-        "regenerate: cd hil && cargo run -p kappaline-hil -- build-path --input data/orchard_rows.csv --name orchard --out-rs tests/generated/orchard_path.rs"
+        "regenerate: cd hil && cargo run -p kappaline-hil -- build-path --input data/orchard_rows.csv --name orchard --out-rs tests/pathcmd_generated/orchard_path.rs"
     );
     assert_eq!(
         std::fs::read(dir.join("orchard_path.kpath")).unwrap(),
@@ -62,7 +62,7 @@ fn the_generated_fn_and_the_blob_give_the_same_path() {
     assert_eq!(from_fn.len(), orchard::ORCHARD_SEGMENTS.len());
     assert!((f64::from(from_fn.length()) - orchard::ORCHARD_LENGTH).abs() < 1e-3);
     let bytes = std::fs::read(
-        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/generated/orchard_path.kpath"),
+        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/pathcmd_generated/orchard_path.kpath"),
     )
     .unwrap();
     let (from_blob, info): (Path<f32, 9>, _) = decode(&bytes).unwrap();
