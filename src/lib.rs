@@ -36,6 +36,7 @@
 //! | [`check_path`] | a path against a vehicle's curvature and sharpness limits |
 //! | [`Real`] | the numeric backend (`f32`, `f64`) |
 //! | [`fresnel()`], [`generalized_fresnel`] | Fresnel integrals in `no_std` |
+//! | [`io::blob`] | the path blob: [`io::blob::encode`], chunk-by-chunk [`io::blob::Decoder`] |
 //!
 //! # Conventions
 //! Metres, radians, 1/m. Headings counter-clockwise from `+x`; curvature
