@@ -132,3 +132,23 @@ proptest! {
         check_finite::<f64>(length, -f64::MAX_CURVATURE, 2.0 * f64::MAX_CURVATURE / length)?;
     }
 }
+
+/// A segment accepted at the curvature bound reads back from the path,
+/// although its length there (a difference of stations) rounds differently.
+#[test]
+fn segments_at_the_bound_read_back_from_the_path() {
+    for k in 0..2000 {
+        let len = 0.37f32 + k as f32 * 0.013;
+        let Ok(s) = Segment::<f32>::transition(len, -f32::MAX_CURVATURE, f32::MAX_CURVATURE) else {
+            continue;
+        };
+        let p = PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0))
+            .and_then(|b| b.push(Segment::line(1234.567)?))
+            .and_then(|b| b.push(s))
+            .and_then(|b| b.build())
+            .unwrap();
+        let back = p.segment(1).expect("segment 1 reads back");
+        assert!((back.kappa0() - s.kappa0()).abs() == 0.0);
+        assert!((back.length() - len).abs() < 2e-4);
+    }
+}

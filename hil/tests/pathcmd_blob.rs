@@ -62,7 +62,8 @@ fn the_generated_fn_and_the_blob_give_the_same_path() {
     assert_eq!(from_fn.len(), orchard::ORCHARD_SEGMENTS.len());
     assert!((f64::from(from_fn.length()) - orchard::ORCHARD_LENGTH).abs() < 1e-3);
     let bytes = std::fs::read(
-        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/pathcmd_generated/orchard_path.kpath"),
+        PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+            .join("tests/pathcmd_generated/orchard_path.kpath"),
     )
     .unwrap();
     let (from_blob, info): (Path<f32, 9>, _) = decode(&bytes).unwrap();

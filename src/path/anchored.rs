@@ -546,9 +546,8 @@ impl<T: Real, const N: usize> Path<T, N> {
     pub fn segment(&self, index: usize) -> Option<Segment<T>> {
         let p = self.placed.get(index)?;
         let len = self.segment_length(index);
-        Segment::clothoid(len, p.kappa0, p.sigma)
-            .ok()
-            .map(|s| s.with_direction(p.direction))
+        // Checked when placed (and the station grows, so `len > 0`).
+        Some(Segment::stored(len, p.kappa0, p.sigma, p.direction))
     }
 
     /// Station where segment `index` starts, metres, or `None` past the end.

@@ -142,6 +142,19 @@ impl<T: Real> Segment<T> {
         Self::clothoid(length, kappa_start, (kappa_end - kappa_start) / length)
     }
 
+    /// A segment read back from a path, whose values were checked when it
+    /// was made: its length there is the difference of two stations, which
+    /// can round a hair above the original and put an end curvature that
+    /// sat on [`Real::MAX_CURVATURE`] a rounding beyond it.
+    pub(crate) fn stored(length: T, kappa0: T, sigma: T, direction: Direction) -> Self {
+        Self {
+            length,
+            kappa0,
+            sigma,
+            direction,
+        }
+    }
+
     /// The same segment driven in the given direction.
     #[must_use]
     pub fn with_direction(mut self, direction: Direction) -> Self {
