@@ -37,6 +37,7 @@
 //! | [`check_path`] | a path against a vehicle's curvature and sharpness limits |
 //! | [`Real`] | the numeric backend (`f32`, `f64`) |
 //! | [`fresnel()`], [`generalized_fresnel`] | Fresnel integrals in `no_std` |
+//! | [`io::blob`] | the path blob: [`io::blob::encode`], chunk-by-chunk [`io::blob::Decoder`] |
 //!
 //! # Conventions
 //! Metres, radians, 1/m. Headings counter-clockwise from `+x`; curvature
@@ -91,8 +92,9 @@ pub use guide::{
 };
 pub use num::*;
 pub use path::{
-    fresnel, generalized_fresnel, AnchoredSegment, Continuity, Cursor, Direction, Path,
-    PathBuilder, PathError, PathPoint, Pose, Segment, SegmentKind, Travel, MAX_COORDINATE,
+    fresnel, generalized_fresnel, AnchoredBuilder, AnchoredSegment, Continuity, Cursor, Direction,
+    Path, PathBuilder, PathError, PathPoint, Pose, Segment, SegmentKind, Travel, MAX_COORDINATE,
+    MAX_SEGMENT_LENGTH,
 };
 pub use steer::{
     local_speed_limit, speed_cap, Chassis, FrenetFeedback, Limited, PurePursuit, Stanley,

@@ -103,24 +103,22 @@ fn builder() {
         Err(PathError::OutOfRange)
     );
     assert_eq!(far, before);
-    assert_eq!(
-        far.try_push(Segment::line(1e300).unwrap()),
-        Err(PathError::OutOfRange)
-    );
+    // Longer than MAX_SEGMENT_LENGTH: refused when the segment is made.
+    assert_eq!(Segment::line(1e300f64), Err(PathError::OutOfRange));
     assert_eq!(far, before);
-    // An end heading that overflows f64 (kappa L = 1e310) is non-finite.
-    let mut huge = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
-    let before = huge.clone();
+    // An end heading that overflows f64 (kappa L = 1e310): the length and
+    // the curvature are refused by their bounds before it is formed.
+    assert_eq!(Segment::arc(1e300f64, 1e10), Err(PathError::OutOfRange));
     assert_eq!(
-        huge.try_push(Segment::arc(1e300, 1e10).unwrap()),
-        Err(PathError::NonFinite { index: 0 })
+        Segment::arc(1e3f64, 1e10),
+        Err(PathError::CurvatureOutOfRange { index: 0 })
     );
-    assert_eq!(huge, before);
     // f32: an end beyond f32's range although it is finite in f64.
-    let mut far32 = PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
+    assert_eq!(Segment::line(3.0e38f32), Err(PathError::OutOfRange));
+    let mut far32 = PathBuilder::<f32, 4>::new(Pose::new(9.0e6, 0.0, 0.0)).unwrap();
     let before = far32.clone();
     assert_eq!(
-        far32.try_push(Segment::line(3.0e38).unwrap()),
+        far32.try_push(Segment::line(2.0e6).unwrap()),
         Err(PathError::OutOfRange)
     );
     assert_eq!(far32, before);

@@ -1,9 +1,11 @@
 //! `build-path`: waypoints (CSV or GeoJSON) to a drivable kappaline path,
-//! checked against vehicle limits, written as a Rust `const` source file for
-//! firmware and an SVG preview.
+//! checked against vehicle limits, written as a Rust source file for
+//! firmware (a segment table and a ready loader `fn`), a path blob beside
+//! it and an SVG preview.
 //!
 //! ```text
-//! build-path --input FILE (.csv | .geojson | .json) --out-rs FILE [--out-svg FILE]
+//! build-path --input FILE (.csv | .geojson | .json) --out-rs FILE
+//!            [--out-blob FILE] [--out-svg FILE]
 //!            [--mode corners|spline] [--radius M] [--max-sharpness S]
 //!            [--max-curvature K] [--max-curvature-rate R --speed V]
 //!            [--origin LAT,LON[,HEIGHT]] [--name IDENT] [--strict]
@@ -21,8 +23,14 @@
 //!   (m/s); curvature jumps above 1e-6 1/m are reported;
 //! * `--strict` makes a limit violation an error (the files are still written).
 //!
-//! Input formats: see [`input`]. Output: see [`output::rust_const`]. There is
-//! no binary path format yet; the `const` file is the firmware hand-over.
+//! Input formats: see [`input`]. Outputs: the Rust file of
+//! [`output::rust_const`] (its `load_NAME()` returns a
+//! `Result<Path<f32, N>, PathError>`, nothing left to write by hand) and the
+//! path blob of `kappaline::io::blob` (millimetres, with the geodetic origin
+//! when the input had one), by default beside the Rust file with the
+//! extension `.kpath`. Both are read back before the command succeeds: the
+//! Rust table through the core's anchor check in `f32`, the blob through
+//! the core's decoder in `f64` (re-encoding to the same bytes) and in `f32`.
 //!
 //! Caution: a generated path is not a safety function. Check it in the
 //! preview and on the machine at low speed, with an independent emergency
@@ -34,6 +42,7 @@ pub mod output;
 use std::path::PathBuf;
 
 use anyhow::{anyhow, bail, Context, Result};
+use kappaline::io::blob::{decode, encode, encoded_len, EncodeOptions, Origin};
 use kappaline::{
     check_path, clothoid_spline, corner_path, AnchoredSegment, Continuity, Corner, CornerConfig,
     CornerError, FeasibilityReport, FitError, Path, PathLimits, Pose, Segment, Waypoint,
@@ -57,7 +66,7 @@ pub enum Mode {
 #[derive(Debug, Clone, PartialEq, clap::Parser)]
 #[command(
     name = "build-path",
-    about = "Waypoints (CSV or GeoJSON) to a checked kappaline path: a Rust const file and an SVG preview"
+    about = "Waypoints (CSV or GeoJSON) to a checked kappaline path: a Rust source file, a path blob and an SVG preview"
 )]
 pub struct Options {
     /// Waypoint file: .csv, .geojson or .json.
@@ -66,6 +75,9 @@ pub struct Options {
     /// Rust source to write.
     #[arg(long = "out-rs")]
     pub out_rs: PathBuf,
+    /// Path blob to write (default: the Rust file with the extension `.kpath`).
+    #[arg(long = "out-blob")]
+    pub out_blob: Option<PathBuf>,
     /// SVG preview to write, if any.
     #[arg(long = "out-svg")]
     pub out_svg: Option<PathBuf>,
@@ -258,6 +270,35 @@ pub fn reload_f32(path: &Path<f64, MAX_SEGMENTS>) -> Result<Path<f32, MAX_SEGMEN
         .map_err(|e| anyhow!("reload in f32: {e}"))
 }
 
+/// The path as a blob (millimetres; the geodetic origin when known),
+/// checked by decoding it: in `f64` it must re-encode to the same bytes,
+/// in `f32` it must load at all.
+///
+/// # Errors
+/// The encoder's or decoder's message.
+pub fn blob(path: &Path<f64, MAX_SEGMENTS>, origin: Option<(f64, f64, f64)>) -> Result<Vec<u8>> {
+    let origin = origin
+        .map(|(lat, lon, h)| Origin::from_degrees(lat, lon, h))
+        .transpose()
+        .map_err(|e| anyhow!("blob origin: {e}"))?;
+    let options = EncodeOptions {
+        origin,
+        ..EncodeOptions::DEFAULT
+    };
+    let mut bytes = vec![0u8; encoded_len(path.len(), origin.is_some())];
+    encode(path, &options, &mut bytes).map_err(|e| anyhow!("path blob: {e}"))?;
+    let (back, info) = decode::<f64, MAX_SEGMENTS>(&bytes)
+        .map_err(|e| anyhow!("path blob read back in f64: {e}"))?;
+    let mut again = vec![0u8; bytes.len()];
+    encode(&back, &EncodeOptions::matching(&info), &mut again)
+        .map_err(|e| anyhow!("path blob re-encoded: {e}"))?;
+    if again != bytes {
+        bail!("path blob: re-encoding the decoded path gave other bytes");
+    }
+    decode::<f32, MAX_SEGMENTS>(&bytes).map_err(|e| anyhow!("path blob read back in f32: {e}"))?;
+    Ok(bytes)
+}
+
 /// Runs `build-path` with the arguments after the verb.
 pub fn run(args: &[String]) -> Result<()> {
     if args.iter().any(|a| a == "--help" || a == "-h") {
@@ -282,6 +323,15 @@ pub fn run(args: &[String]) -> Result<()> {
         Mode::Spline => "G1 clothoid spline".to_string(),
     };
     let input_name = o.input.display().to_string();
+    let blob_bytes = blob(&b.path, b.waypoints.origin)?;
+    let blob_path = o
+        .out_blob
+        .clone()
+        .unwrap_or_else(|| o.out_rs.with_extension("kpath"));
+    let blob_name = blob_path.file_name().map_or_else(
+        || blob_path.display().to_string(),
+        |n| n.to_string_lossy().into_owned(),
+    );
     let d = output::Described {
         path: &b.path,
         report: &b.report,
@@ -291,9 +341,12 @@ pub fn run(args: &[String]) -> Result<()> {
         input: &input_name,
         method: &method,
         name: &o.name,
+        blob: Some((&blob_name, blob_bytes.len())),
     };
     std::fs::write(&o.out_rs, output::rust_const(&d))
         .with_context(|| format!("cannot write {}", o.out_rs.display()))?;
+    std::fs::write(&blob_path, &blob_bytes)
+        .with_context(|| format!("cannot write {}", blob_path.display()))?;
     if let Some(svg) = &o.out_svg {
         std::fs::write(svg, output::svg(&d))
             .with_context(|| format!("cannot write {}", svg.display()))?;
@@ -331,13 +384,15 @@ pub fn run(args: &[String]) -> Result<()> {
         }
     }
     println!(
-        "  wrote {}{}",
+        "  wrote {} (fn {}()), {} ({} bytes){}",
         o.out_rs.display(),
+        output::loader_name(&o.name),
+        blob_path.display(),
+        blob_bytes.len(),
         o.out_svg
             .as_ref()
             .map_or(String::new(), |p| format!(", {}", p.display()))
     );
-    println!("  (no binary path format exists yet: the const file is the firmware hand-over)");
     if o.strict && !b.report.is_feasible() {
         bail!("{} limit violation(s) (--strict)", b.report.total);
     }

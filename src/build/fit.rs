@@ -44,7 +44,7 @@ use heapless::Vec;
 
 use crate::num::complex::Cplx;
 use crate::num::real::Real;
-use crate::path::anchored::{Path, PathBuilder};
+use crate::path::anchored::{wrap_exactly, Path, PathBuilder};
 use crate::path::error::PathError;
 use crate::path::fresnel::clothoid_integral;
 use crate::path::pose::Pose;
@@ -84,6 +84,9 @@ pub enum FitError {
     },
     /// The path builder refused a segment.
     Path(PathError),
+    /// The fitted curve's length, curvature or sharpness would not be a
+    /// finite number (a chord far too short or too long for its turn).
+    NonFiniteResult,
 }
 
 impl core::fmt::Display for FitError {
@@ -100,6 +103,9 @@ impl core::fmt::Display for FitError {
                 )
             }
             FitError::Path(e) => write!(f, "path: {e}"),
+            FitError::NonFiniteResult => {
+                f.write_str("the fitted curve's length, curvature or sharpness is not finite")
+            }
         }
     }
 }
@@ -246,9 +252,14 @@ impl G1Fit {
 /// the method, turning `delta` with `|delta| < 2 pi` as set out in the
 /// module documentation.
 ///
+/// Headings may hold any number of turns: they are wrapped (exactly, as
+/// the path builder places them) before the chord angle is subtracted, so
+/// the fit and its closure do not depend on `2 pi k` added to either.
+///
 /// # Errors
 /// [`FitError::NonFinite`], [`FitError::CoincidentPoints`],
-/// [`FitError::NoConvergence`].
+/// [`FitError::NoConvergence`], [`FitError::NonFiniteResult`] (never `Ok`
+/// with a non-finite field).
 pub fn fit_g1<T: Real>(from: Pose<T>, to: Pose<T>) -> Result<G1Fit, FitError> {
     if !(from.is_finite() && to.is_finite()) {
         return Err(FitError::NonFinite);
@@ -261,8 +272,10 @@ pub fn fit_g1<T: Real>(from: Pose<T>, to: Pose<T>) -> Result<G1Fit, FitError> {
         return Err(FitError::CoincidentPoints);
     }
     let phi = libm::atan2(dy, dx);
-    let phi0 = (from.heading.to_f64() - phi).wrap_angle();
-    let phi1 = (to.heading.to_f64() - phi).wrap_angle();
+    // Wrap the headings first: the chord angle subtracted from a heading of
+    // many turns would lose its low bits.
+    let phi0 = (wrap_exactly(from.heading.to_f64()) - phi).wrap_angle();
+    let phi1 = (wrap_exactly(to.heading.to_f64()) - phi).wrap_angle();
     let delta = phi1 - phi0;
     let (a, iterations) = solve_angle(phi0, phi1)?;
     let [(x0, _), _, _] = fresnel_moments(2.0 * a, delta - a, phi0);
@@ -272,11 +285,15 @@ pub fn fit_g1<T: Real>(from: Pose<T>, to: Pose<T>) -> Result<G1Fit, FitError> {
     let length = r / x0;
     let kappa0 = (delta - a) / length;
     let sharpness = 2.0 * a / (length * length);
+    let kappa1 = kappa0 + sharpness * length;
+    if !(length.is_finite() && kappa0.is_finite() && sharpness.is_finite() && kappa1.is_finite()) {
+        return Err(FitError::NonFiniteResult);
+    }
     Ok(G1Fit {
         kappa0,
         sharpness,
         length,
-        kappa1: kappa0 + sharpness * length,
+        kappa1,
         iterations,
     })
 }

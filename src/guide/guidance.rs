@@ -181,7 +181,7 @@ fn eval_on_leg<T: Real, const N: usize>(path: &Path<T, N>, leg: &Leg<T>, s: T) -
         return path.at(s);
     }
     let sc = s.clamp_to(leg.start, leg.end);
-    let i = path.find_segment(sc).clamp(leg.first, leg.last);
+    let i = path.find_segment(sc).max(leg.first).min(leg.last);
     let u = sc - path.segment_start(i).unwrap_or(T::ZERO);
     path.eval_in(i, u.clamp_to(T::ZERO, path.segment_length(i)))
 }

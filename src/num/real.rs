@@ -51,6 +51,14 @@ pub trait Real:
     const PI: Self;
     /// The spacing of the type's values near 1 (machine epsilon).
     const EPSILON: Self;
+    /// Largest curvature magnitude a segment may have anywhere on it, 1/m.
+    /// Together with [`Real::MAX_SHARPNESS`] and the segment length bound
+    /// it keeps every intermediate of a segment evaluation (heading
+    /// `kappa u`, the clothoid arguments `sigma u^2`, `(kappa0 u)^2`)
+    /// finite in this type, with orders of magnitude to spare.
+    const MAX_CURVATURE: Self;
+    /// Largest sharpness magnitude `|d kappa / d s|` a segment may have, 1/m^2.
+    const MAX_SHARPNESS: Self;
 
     /// Converts from `f64`, rounding to the nearest representable value.
     fn from_f64(v: f64) -> Self;
@@ -148,6 +156,9 @@ impl Real for f64 {
     const HALF: Self = 0.5;
     const PI: Self = core::f64::consts::PI;
     const EPSILON: Self = f64::EPSILON;
+    /// A radius of 1 micrometre.
+    const MAX_CURVATURE: Self = 1.0e6;
+    const MAX_SHARPNESS: Self = 1.0e12;
 
     #[inline]
     fn from_f64(v: f64) -> Self {
@@ -194,6 +205,9 @@ impl Real for f32 {
     const HALF: Self = 0.5;
     const PI: Self = core::f32::consts::PI;
     const EPSILON: Self = f32::EPSILON;
+    /// A radius of 1 millimetre.
+    const MAX_CURVATURE: Self = 1.0e3;
+    const MAX_SHARPNESS: Self = 1.0e6;
 
     #[inline]
     fn from_f64(v: f64) -> Self {

@@ -80,12 +80,14 @@ struct Anchor64 {
 }
 
 impl Anchor64 {
+    /// The anchor at a pose, its heading wrapped exactly (see
+    /// [`wrap_exactly`]) so that the turns added to it keep their digits.
     fn from_pose(p: Pose<f64>) -> Self {
         Self {
             station: 0.0,
             x: p.x,
             y: p.y,
-            theta: p.heading,
+            theta: wrap_exactly(p.heading),
         }
     }
 
@@ -255,7 +257,8 @@ impl<T: Real, const N: usize> PathBuilder<T, N> {
     }
 
     /// Where the next segment would start: `(x, y, heading)` in metres and
-    /// radians (heading unwrapped, the sum of all turns since the start).
+    /// radians (heading unwrapped: the start heading, wrapped into
+    /// `[-pi, pi]`, plus all turns since the start).
     pub fn end_pose(&self) -> Pose<f64> {
         Pose::new(self.next.x, self.next.y, self.next.theta)
     }
@@ -309,6 +312,153 @@ pub struct AnchoredSegment<T> {
     pub start: Pose<T>,
 }
 
+/// Assembles a [`Path`] from stored segments one at a time, as
+/// [`Path::from_anchored`] does for a whole slice: each segment carries its
+/// own start pose, which must lie within the tolerance of the end of the
+/// segment before (recomputed in `f64`); the stored anchors are kept.
+///
+/// This is the incremental form a streaming loader needs (the path blob
+/// decoder in [`crate::io`] feeds it segment by segment, holding no more
+/// than one record of the blob).
+///
+/// ```
+/// use kappaline::{AnchoredBuilder, AnchoredSegment, Continuity, Pose, Segment};
+/// # fn main() -> Result<(), kappaline::PathError> {
+/// let mut b = AnchoredBuilder::<f32, 4>::new(Continuity::DEFAULT)?;
+/// b.try_push(AnchoredSegment { segment: Segment::line(10.0)?, start: Pose::new(0.0, 0.0, 0.0) })?;
+/// b.try_push(AnchoredSegment { segment: Segment::line(5.0)?, start: Pose::new(10.0, 0.0, 0.0) })?;
+/// let path = b.finish(false)?;
+/// assert_eq!(path.len(), 2);
+/// # Ok(()) }
+/// ```
+#[derive(Debug, Clone, PartialEq)]
+pub struct AnchoredBuilder<T: Real, const N: usize> {
+    placed: Vec<Placed<T>, N>,
+    tolerance: Continuity,
+    first: Option<(Anchor64, Direction)>,
+    /// End of the last segment pushed and its driving direction.
+    last: Option<(Anchor64, Direction)>,
+}
+
+impl<T: Real, const N: usize> AnchoredBuilder<T, N> {
+    /// An empty builder checking joints against `tolerance`.
+    ///
+    /// # Errors
+    /// [`PathError::OutOfRange`] if a tolerance is negative or not finite.
+    pub fn new(tolerance: Continuity) -> Result<Self, PathError> {
+        tolerance.check()?;
+        Ok(Self {
+            placed: Vec::new(),
+            tolerance,
+            first: None,
+            last: None,
+        })
+    }
+
+    /// Number of segments so far.
+    pub fn len(&self) -> usize {
+        self.placed.len()
+    }
+
+    /// `true` before the first segment.
+    pub fn is_empty(&self) -> bool {
+        self.placed.is_empty()
+    }
+
+    /// Appends `part`, checking its start against the end of the segment
+    /// before (turned by pi where the driving direction changes: a cusp, as
+    /// [`PathBuilder::try_push_cusp`] builds it).
+    ///
+    /// # Errors
+    /// [`PathError::CapacityExceeded`], [`PathError::NonFinite`],
+    /// [`PathError::OutOfRange`] (a start or end beyond
+    /// [`MAX_COORDINATE`]), [`PathError::NonPositiveLength`],
+    /// [`PathError::PositionGap`] and [`PathError::HeadingGap`], each with
+    /// the index the segment would have. The builder is unchanged on error.
+    pub fn try_push(&mut self, part: AnchoredSegment<T>) -> Result<(), PathError> {
+        self.push_part(part, true)
+    }
+
+    /// As [`AnchoredBuilder::try_push`], without the joint check if
+    /// `!check_joint`: for a loader that has checked the joint itself on
+    /// the exact stored values (the blob decoder, in `f64`), where the
+    /// same check on the values rounded to `T` could fail by `T`'s
+    /// rounding alone.
+    pub(crate) fn push_part(
+        &mut self,
+        part: AnchoredSegment<T>,
+        check_joint_here: bool,
+    ) -> Result<(), PathError> {
+        let index = self.placed.len();
+        if index >= N {
+            return Err(PathError::CapacityExceeded);
+        }
+        if !part.start.is_finite() {
+            return Err(PathError::NonFinite { index });
+        }
+        if !within_plane(part.start.x.to_f64()) || !within_plane(part.start.y.to_f64()) {
+            return Err(PathError::OutOfRange);
+        }
+        let mut a = Anchor64::from_pose(Pose::new(
+            part.start.x.to_f64(),
+            part.start.y.to_f64(),
+            part.start.heading.to_f64(),
+        ));
+        let direction = part.segment.direction();
+        if let Some((end, before)) = self.last {
+            a.station = end.station;
+            if check_joint_here {
+                check_joint(&end.turned(before != direction), &a, self.tolerance, index)?;
+            }
+        }
+        let end = a.after(&part.segment.cast::<f64>());
+        check_after::<T>(&a, &end, index)?;
+        self.placed
+            .push(a.place(&part.segment))
+            .map_err(|_| PathError::CapacityExceeded)?;
+        self.first.get_or_insert((a, direction));
+        self.last = Some((end, direction));
+        Ok(())
+    }
+
+    /// Finishes the path; if `closed`, the last segment must end within the
+    /// tolerance of the first one's start (turned by pi at a cusp).
+    ///
+    /// # Errors
+    /// [`PathError::Empty`] if no segment was pushed;
+    /// [`PathError::PositionGap`] or [`PathError::HeadingGap`] with `index`
+    /// 0 for the closing joint.
+    pub fn finish(self, closed: bool) -> Result<Path<T, N>, PathError> {
+        self.finish_part(closed, true)
+    }
+
+    /// As [`AnchoredBuilder::finish`], without the closing check if
+    /// `!check_closing` (see [`AnchoredBuilder::push_part`]).
+    pub(crate) fn finish_part(
+        self,
+        closed: bool,
+        check_closing: bool,
+    ) -> Result<Path<T, N>, PathError> {
+        let (Some((end, last_dir)), Some((first, first_dir))) = (self.last, self.first) else {
+            return Err(PathError::Empty);
+        };
+        if closed && check_closing {
+            check_joint(
+                &end.turned(first_dir != last_dir),
+                &first,
+                self.tolerance,
+                0,
+            )?;
+        }
+        Ok(Path {
+            placed: self.placed,
+            total: T::from_f64(end.station),
+            end: end.place_point(),
+            closed,
+        })
+    }
+}
+
 /// A reference path: up to `N` segments, each placed at its anchor.
 ///
 /// Built with [`PathBuilder`] or [`Path::from_anchored`]; always holds at
@@ -357,64 +507,15 @@ impl<T: Real, const N: usize> Path<T, N> {
         tolerance: Continuity,
         closed: bool,
     ) -> Result<Self, PathError> {
-        tolerance.check()?;
-        if parts.is_empty() {
-            return Err(PathError::Empty);
-        }
         if parts.len() > N {
+            tolerance.check()?;
             return Err(PathError::CapacityExceeded);
         }
-        let mut placed = Vec::new();
-        let mut prev_end: Option<Anchor64> = None;
-        let mut prev_direction = None;
-        let mut station = 0.0f64;
-        let mut first = None;
-        for (index, part) in parts.iter().enumerate() {
-            if !part.start.is_finite() {
-                return Err(PathError::NonFinite { index });
-            }
-            if !within_plane(part.start.x.to_f64()) || !within_plane(part.start.y.to_f64()) {
-                return Err(PathError::OutOfRange);
-            }
-            let mut a = Anchor64::from_pose(Pose::new(
-                part.start.x.to_f64(),
-                part.start.y.to_f64(),
-                part.start.heading.to_f64(),
-            ));
-            a.station = station;
-            if let Some(e) = prev_end {
-                // At a cusp the path tangent turns by pi (see
-                // `PathBuilder::try_push_cusp`): compare with that.
-                let cusp = prev_direction.is_some_and(|d| d != part.segment.direction());
-                check_joint(&e.turned(cusp), &a, tolerance, index)?;
-            }
-            prev_direction = Some(part.segment.direction());
-            let seg64 = part.segment.cast::<f64>();
-            let end = a.after(&seg64);
-            check_after::<T>(&a, &end, index)?;
-            placed
-                .push(a.place(&part.segment))
-                .map_err(|_| PathError::CapacityExceeded)?;
-            first.get_or_insert(a);
-            station = end.station;
-            prev_end = Some(end);
+        let mut b = AnchoredBuilder::new(tolerance)?;
+        for part in parts {
+            b.try_push(*part)?;
         }
-        let (Some(end), Some(first)) = (prev_end, first) else {
-            return Err(PathError::Empty);
-        };
-        if closed {
-            let cusp = parts
-                .first()
-                .zip(parts.last())
-                .is_some_and(|(f, l)| f.segment.direction() != l.segment.direction());
-            check_joint(&end.turned(cusp), &first, tolerance, 0)?;
-        }
-        Ok(Self {
-            placed,
-            total: T::from_f64(station),
-            end: end.place_point(),
-            closed,
-        })
+        b.finish(closed)
     }
 
     /// Number of segments.
@@ -445,9 +546,8 @@ impl<T: Real, const N: usize> Path<T, N> {
     pub fn segment(&self, index: usize) -> Option<Segment<T>> {
         let p = self.placed.get(index)?;
         let len = self.segment_length(index);
-        Segment::clothoid(len, p.kappa0, p.sigma)
-            .ok()
-            .map(|s| s.with_direction(p.direction))
+        // Checked when placed (and the station grows, so `len > 0`).
+        Some(Segment::stored(len, p.kappa0, p.sigma, p.direction))
     }
 
     /// Station where segment `index` starts, metres, or `None` past the end.
@@ -617,6 +717,36 @@ pub const MAX_COORDINATE: f64 = 1.0e7;
 #[inline]
 pub(crate) fn within_plane(v: f64) -> bool {
     libm::fabs(v) <= MAX_COORDINATE
+}
+
+/// `theta` wrapped into `[-pi, pi]` as the angle whose sine and cosine
+/// libm gives for it (unchanged if already in `(-pi, pi]`). libm reduces
+/// its argument exactly (by a many-digit `2 pi`), and the path places a
+/// segment at `sincos(theta)`; wrapping with a rounded `2 pi` instead is
+/// off by `k ulp(2 pi)` after `k` turns (0.25 mrad at 10^12 turns), and a
+/// heading of many turns plus a small turn loses the small turn. Build
+/// time only (two libm calls).
+pub(crate) fn wrap_exactly(theta: f64) -> f64 {
+    if theta > -core::f64::consts::PI && theta <= core::f64::consts::PI {
+        return theta;
+    }
+    let (s, c) = libm::sincos(theta);
+    libm::atan2(s, c)
+}
+
+/// Position and heading gaps (metres, radians) between the end of `seg`
+/// started at `start` and the stored start `next` of the segment after it
+/// (the end's tangent turned by pi at a cusp), computed exactly as
+/// [`AnchoredBuilder::try_push`] checks a joint. For encoders that must
+/// know before writing whether a loader will accept their quantised values.
+pub(crate) fn joint_gaps(
+    start: Pose<f64>,
+    seg: &Segment<f64>,
+    next: Pose<f64>,
+    cusp: bool,
+) -> (f64, f64) {
+    let end = Anchor64::from_pose(start).after(seg).turned(cusp);
+    end.gaps(&Anchor64::from_pose(next))
 }
 
 fn check_joint(

@@ -40,6 +40,18 @@ pub enum PathError {
     OutOfRange,
     /// A station outside the path (open paths only).
     StationOutOfRange,
+    /// The start or end curvature of segment `index` is beyond the
+    /// backend's [`crate::num::real::Real::MAX_CURVATURE`].
+    CurvatureOutOfRange {
+        /// Segment at fault.
+        index: usize,
+    },
+    /// The sharpness of segment `index` is beyond the backend's
+    /// [`crate::num::real::Real::MAX_SHARPNESS`].
+    SharpnessOutOfRange {
+        /// Segment at fault.
+        index: usize,
+    },
 }
 
 impl fmt::Display for PathError {
@@ -63,6 +75,18 @@ impl fmt::Display for PathError {
             ),
             PathError::OutOfRange => f.write_str("parameter out of range"),
             PathError::StationOutOfRange => f.write_str("station outside the path"),
+            PathError::CurvatureOutOfRange { index } => {
+                write!(
+                    f,
+                    "segment {index} has a curvature beyond the backend's bound"
+                )
+            }
+            PathError::SharpnessOutOfRange { index } => {
+                write!(
+                    f,
+                    "segment {index} has a sharpness beyond the backend's bound"
+                )
+            }
         }
     }
 }

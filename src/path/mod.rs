@@ -15,9 +15,11 @@ pub(crate) mod pose;
 pub(crate) mod project;
 pub(crate) mod segment;
 
-pub use anchored::{AnchoredSegment, Continuity, Path, PathBuilder, MAX_COORDINATE};
+pub use anchored::{
+    AnchoredBuilder, AnchoredSegment, Continuity, Path, PathBuilder, MAX_COORDINATE,
+};
 pub use cursor::{Cursor, Travel};
 pub use error::PathError;
 pub use fresnel::{fresnel, generalized_fresnel};
 pub use pose::{Direction, PathPoint, Pose};
-pub use segment::{Segment, SegmentKind};
+pub use segment::{Segment, SegmentKind, MAX_SEGMENT_LENGTH};

@@ -15,9 +15,14 @@
 
 use crate::num::complex::Cplx;
 use crate::num::real::{c, Real};
+use crate::path::anchored::MAX_COORDINATE;
 use crate::path::error::PathError;
 use crate::path::fresnel::clothoid_integral;
 use crate::path::pose::Direction;
+
+/// Longest segment, metres: [`MAX_COORDINATE`], the longest station a
+/// path may reach.
+pub const MAX_SEGMENT_LENGTH: f64 = MAX_COORDINATE;
 
 /// What shape a segment has.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -35,7 +40,9 @@ pub enum SegmentKind {
 ///
 /// Constructed through [`Segment::line`], [`Segment::arc`],
 /// [`Segment::clothoid`] or [`Segment::transition`], which check the values,
-/// so a `Segment` always has a finite positive length and finite curvature.
+/// so a `Segment` always has a finite positive length and a curvature and
+/// sharpness within the bounds of its backend `T` ([`Real::MAX_CURVATURE`],
+/// [`Real::MAX_SHARPNESS`]): every point on it evaluates finite.
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Segment<T> {
@@ -60,10 +67,21 @@ impl<T: Real> Segment<T> {
     /// A general segment: `length` metres, start curvature `kappa0` (1/m,
     /// positive left) and sharpness `sigma` (1/m^2).
     ///
+    /// The bounds keep every evaluation finite: the curvature stays within
+    /// [`Real::MAX_CURVATURE`] at both ends (so everywhere on the segment,
+    /// curvature being linear), the sharpness within [`Real::MAX_SHARPNESS`]
+    /// and the length within [`MAX_SEGMENT_LENGTH`]; then no station on the
+    /// segment evaluates to a non-finite position, heading or curvature in
+    /// `T`.
+    ///
     /// # Errors
     /// [`PathError::NonFinite`] if any value is NaN or infinite (or the end
-    /// curvature overflows), [`PathError::NonPositiveLength`] if `length <= 0`.
-    /// The `index` in the error is 0; the path builder fills in the real one.
+    /// curvature overflows), [`PathError::NonPositiveLength`] if `length <= 0`,
+    /// [`PathError::OutOfRange`] if `length > MAX_SEGMENT_LENGTH`,
+    /// [`PathError::CurvatureOutOfRange`] if the start or end curvature is
+    /// beyond [`Real::MAX_CURVATURE`], [`PathError::SharpnessOutOfRange`] if
+    /// the sharpness is beyond [`Real::MAX_SHARPNESS`].
+    /// The `index` in the error is 0 (a segment on its own has none).
     pub fn clothoid(length: T, kappa0: T, sigma: T) -> Result<Self, PathError> {
         if !(length.is_finite() && kappa0.is_finite() && sigma.is_finite()) {
             return Err(PathError::NonFinite { index: 0 });
@@ -71,8 +89,18 @@ impl<T: Real> Segment<T> {
         if length <= T::ZERO {
             return Err(PathError::NonPositiveLength { index: 0 });
         }
-        if !(kappa0 + sigma * length).is_finite() {
+        let kappa_end = kappa0 + sigma * length;
+        if !kappa_end.is_finite() {
             return Err(PathError::NonFinite { index: 0 });
+        }
+        if length.to_f64() > MAX_SEGMENT_LENGTH {
+            return Err(PathError::OutOfRange);
+        }
+        if kappa0.abs() > T::MAX_CURVATURE || kappa_end.abs() > T::MAX_CURVATURE {
+            return Err(PathError::CurvatureOutOfRange { index: 0 });
+        }
+        if sigma.abs() > T::MAX_SHARPNESS {
+            return Err(PathError::SharpnessOutOfRange { index: 0 });
         }
         Ok(Self {
             length,
@@ -112,6 +140,19 @@ impl<T: Real> Segment<T> {
             return Err(PathError::NonPositiveLength { index: 0 });
         }
         Self::clothoid(length, kappa_start, (kappa_end - kappa_start) / length)
+    }
+
+    /// A segment read back from a path, whose values were checked when it
+    /// was made: its length there is the difference of two stations, which
+    /// can round a hair above the original and put an end curvature that
+    /// sat on [`Real::MAX_CURVATURE`] a rounding beyond it.
+    pub(crate) fn stored(length: T, kappa0: T, sigma: T, direction: Direction) -> Self {
+        Self {
+            length,
+            kappa0,
+            sigma,
+            direction,
+        }
     }
 
     /// The same segment driven in the given direction.

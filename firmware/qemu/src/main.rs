@@ -11,6 +11,8 @@
 #![no_std]
 #![no_main]
 
+mod blob_check;
+
 use core::f32::consts::PI;
 
 use cortex_m::peripheral::{syst::SystClkSource, SYST};
@@ -53,6 +55,7 @@ fn main() -> ! {
     long_path(&mut syst);
     guidance(&mut syst);
     nmea(&mut syst);
+    blob_check::run(&mut syst);
     hprintln!("all checks passed");
     debug::exit(debug::EXIT_SUCCESS);
     loop {

@@ -1,5 +1,5 @@
-//! Outputs of `build-path`: a Rust `const` source file for firmware and an
-//! SVG preview.
+//! Outputs of `build-path`: a Rust source file for firmware (the segment
+//! table and a ready loader `fn`), the path blob and an SVG preview.
 
 use std::fmt::Write as _;
 
@@ -23,12 +23,21 @@ pub struct Described<'a, const N: usize, const M: usize> {
     pub method: &'a str,
     /// Identifier prefix for the constants (upper case).
     pub name: &'a str,
+    /// The blob written beside the source: file name and bytes.
+    pub blob: Option<(&'a str, usize)>,
+}
+
+/// The name of the generated loader: `load_` and the prefix in lower case.
+pub fn loader_name(name: &str) -> String {
+    format!("load_{}", name.to_ascii_lowercase())
 }
 
 /// The Rust source text: `NAME_SEGMENTS` with one
 /// `(x, y, heading, length, kappa0, sigma, reverse)` tuple per segment
-/// (anchor in metres and radians, then metres, 1/m, 1/m^2), `NAME_LENGTH`
-/// and `NAME_ORIGIN`. Numbers are written so that they read back bit for bit.
+/// (anchor in metres and radians, then metres, 1/m, 1/m^2), `NAME_LENGTH`,
+/// `NAME_ORIGIN`, `NAME_CLOSED`, and `fn load_name()`, which returns the
+/// path ready to follow (`Result<Path<f32, N>, PathError>`, every anchor
+/// checked). Numbers are written so that they read back bit for bit.
 pub fn rust_const<const N: usize, const M: usize>(d: &Described<'_, N, M>) -> String {
     let mut s = String::new();
     let n = d.path.len();
@@ -60,22 +69,25 @@ pub fn rust_const<const N: usize, const M: usize>(d: &Described<'_, N, M>) -> St
         }
     }
     let _ = writeln!(s, "//");
+    let loader = loader_name(d.name);
     let _ = writeln!(
         s,
-        "// Load with `kappaline::Path::from_anchored` (it checks every anchor against the"
+        "// `{loader}()` returns the path in f32, every stored anchor checked against the end"
     );
     let _ = writeln!(
         s,
-        "// segment before it), converting each tuple into an `AnchoredSegment`:"
+        "// of the segment before it (1 mm, 1 mrad). Coordinates are local metres (x east, y north)."
     );
-    let _ = writeln!(
-        s,
-        "// `Segment::clothoid(length, kappa0, sigma)`, `.reversed()` when `reverse`, start"
-    );
-    let _ = writeln!(
-        s,
-        "// `Pose::new(x, y, heading)`. Coordinates are local metres (x east, y north)."
-    );
+    if let Some((file, len)) = d.blob {
+        let _ = writeln!(
+            s,
+            "// The same path as a {len}-byte path blob: {file} (for flash or a link; read it with"
+        );
+        let _ = writeln!(
+            s,
+            "// `kappaline::io::blob::decode` or, in chunks, `kappaline::io::blob::Decoder`)."
+        );
+    }
     let _ = writeln!(
         s,
         "// Not a certified safety function: keep an independent emergency stop."
@@ -84,6 +96,11 @@ pub fn rust_const<const N: usize, const M: usize>(d: &Described<'_, N, M>) -> St
     let name = d.name;
     let _ = writeln!(s, "/// Segments: `(x, y, heading, length, kappa0, sigma, reverse)`; metres, radians, 1/m, 1/m^2.");
     let _ = writeln!(s, "#[rustfmt::skip]");
+    // Exact values such as pi/2 look like approximations to clippy.
+    let _ = writeln!(
+        s,
+        "#[allow(clippy::approx_constant, clippy::excessive_precision)]"
+    );
     let _ = writeln!(
         s,
         "pub const {name}_SEGMENTS: [(f64, f64, f64, f64, f64, f64, bool); {n}] = ["
@@ -121,6 +138,55 @@ pub fn rust_const<const N: usize, const M: usize>(d: &Described<'_, N, M>) -> St
             );
         }
     }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "/// `true` for a loop.");
+    let _ = writeln!(s, "pub const {name}_CLOSED: bool = {};", d.path.is_closed());
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "/// The path, ready to follow: every anchor checked against the end of the segment"
+    );
+    let _ = writeln!(
+        s,
+        "/// before it (within 1 mm and 1 mrad, cusps included). Metres, radians, 1/m."
+    );
+    let _ = writeln!(s, "///");
+    let _ = writeln!(s, "/// # Errors");
+    let _ = writeln!(
+        s,
+        "/// A `kappaline::PathError` if a segment or anchor is refused (not for a file written"
+    );
+    let _ = writeln!(s, "/// by `build-path` and left unedited).");
+    let _ = writeln!(
+        s,
+        "pub fn {loader}() -> Result<kappaline::Path<f32, {n}>, kappaline::PathError> {{"
+    );
+    let _ = writeln!(
+        s,
+        "    let mut b = kappaline::AnchoredBuilder::<f32, {n}>::new(kappaline::Continuity::DEFAULT)?;"
+    );
+    let _ = writeln!(
+        s,
+        "    for &(x, y, heading, length, kappa0, sigma, reverse) in {name}_SEGMENTS.iter() {{"
+    );
+    let _ = writeln!(
+        s,
+        "        let segment = kappaline::Segment::clothoid(length as f32, kappa0 as f32, sigma as f32)?;"
+    );
+    let _ = writeln!(
+        s,
+        "        let segment = if reverse {{ segment.reversed() }} else {{ segment }};"
+    );
+    let _ = writeln!(s, "        b.try_push(kappaline::AnchoredSegment {{");
+    let _ = writeln!(s, "            segment,");
+    let _ = writeln!(
+        s,
+        "            start: kappaline::Pose::new(x as f32, y as f32, heading as f32),"
+    );
+    let _ = writeln!(s, "        }})?;");
+    let _ = writeln!(s, "    }}");
+    let _ = writeln!(s, "    b.finish({name}_CLOSED)");
+    let _ = writeln!(s, "}}");
     s
 }
 
