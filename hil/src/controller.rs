@@ -258,16 +258,20 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
         } else {
             0.0
         };
-        let c = control_point(
+        // A fix the lever-arm correction refuses (non-finite numbers) is
+        // handed on as it came: judging it is the supervisor's job.
+        let (x, y) = match control_point(
             (f(m.x), f(m.y), self.arm.up()),
             f(m.heading),
             f(roll),
             &self.arm,
-        )
-        .ok()?;
+        ) {
+            Ok(c) => (c.x, c.y),
+            Err(_) => (f(m.x), f(m.y)),
+        };
         Some(Fix {
-            x: c.x,
-            y: c.y,
+            x,
+            y,
             heading: f(m.heading),
             speed: f(m.speed),
             time: f(m.time_s),
