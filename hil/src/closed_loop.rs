@@ -541,30 +541,28 @@ fn thin_in_place(trace: &mut Vec<TraceRow>) {
     });
 }
 
+/// The true state and the commands are finite (the last fix is what the
+/// receiver sent: an injected non-finite fix is not a defect of the loop).
 fn row_is_finite(r: &TraceRow) -> bool {
-    let fix_ok = [r.fix_x_m, r.fix_y_m, r.fix_age_s]
-        .iter()
-        .all(|v| v.is_none_or(f64::is_finite));
-    fix_ok
-        && [
-            r.t_s,
-            r.x_m,
-            r.y_m,
-            r.heading_rad,
-            r.steer_rad,
-            r.speed_m_s,
-            r.point_x_m,
-            r.point_y_m,
-            r.station_m,
-            r.cross_track_m,
-            r.heading_error_rad,
-            r.path_curvature_per_m,
-            r.progress_m,
-            r.cmd_curvature_per_m,
-            r.cmd_steer_rad,
-            r.speed_limit_m_s,
-            r.roll_rad,
-        ]
-        .iter()
-        .all(|v| v.is_finite())
+    [
+        r.t_s,
+        r.x_m,
+        r.y_m,
+        r.heading_rad,
+        r.steer_rad,
+        r.speed_m_s,
+        r.point_x_m,
+        r.point_y_m,
+        r.station_m,
+        r.cross_track_m,
+        r.heading_error_rad,
+        r.path_curvature_per_m,
+        r.progress_m,
+        r.cmd_curvature_per_m,
+        r.cmd_steer_rad,
+        r.speed_limit_m_s,
+        r.roll_rad,
+    ]
+    .iter()
+    .all(|v| v.is_finite())
 }

@@ -58,7 +58,8 @@ pub struct FaultReaction {
     pub statuses_seen: Vec<String>,
     /// Time from the onset to the first status change, s (`None`: no change).
     pub first_change_after_s: Option<f64>,
-    /// First time back in `following` after the end, s.
+    /// First time back in `following` after leaving it, s (`None`: it did
+    /// not leave it, or never came back).
     pub following_again_at_s: Option<f64>,
     /// Largest |cross-track| from the onset until [`REACTION_AFTER_S`] after the end, metres.
     pub max_cross_track_m: f64,
@@ -95,11 +96,13 @@ pub fn fault_reactions(scenario: &Scenario, run: &RunOutput) -> Vec<FaultReactio
                 .find(|c| c.t_s > a)
                 .map(|c| c.t_s - a)
                 .filter(|d| a + d <= z);
+            // Back in following after the fault, if it ever left it.
             let again = run
                 .statuses
                 .iter()
-                .find(|c| c.t_s >= b && c.status == SupervisorStatus::Following)
-                .map(|c| c.t_s);
+                .find(|c| c.t_s > a && c.status == SupervisorStatus::Following)
+                .map(|c| c.t_s)
+                .filter(|_| !seen.is_empty());
             let max_xte = run
                 .trace
                 .iter()
@@ -250,8 +253,11 @@ fn figures(scenario: &Scenario, m: &Metrics, run: &RunOutput) -> String {
                 },
                 r.first_change_after_s
                     .map_or("-".into(), |d| format!("{d:.2} s")),
-                r.following_again_at_s
-                    .map_or("never".into(), |t| format!("at {t:.2} s")),
+                match (r.following_again_at_s, r.statuses_seen.is_empty()) {
+                    (Some(t), _) => format!("at {t:.2} s"),
+                    (None, true) => "-".into(),
+                    (None, false) => "never".into(),
+                },
                 r.max_cross_track_m
             );
         }
@@ -355,7 +361,11 @@ pre{{background:#f7f7f7;padding:8px;overflow-x:auto}}</style></head><body>\n\
                 esc(&r.status_at_onset),
                 esc(&r.statuses_seen.join(", ")),
                 r.first_change_after_s.map_or("-".into(), |d| format!("{d:.2}")),
-                r.following_again_at_s.map_or("never".into(), |t| format!("{t:.2}")),
+                match (r.following_again_at_s, r.statuses_seen.is_empty()) {
+                    (Some(t), _) => format!("{t:.2}"),
+                    (None, true) => "-".into(),
+                    (None, false) => "never".into(),
+                },
                 r.max_cross_track_m
             );
         }

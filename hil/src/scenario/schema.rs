@@ -642,9 +642,14 @@ impl FaultSpec {
                 north_m,
                 heading_deg,
                 ..
-            } => format!(
-                ", {count} step(s) every {every_s} s of {east_m} m east, {north_m} m north, {heading_deg} deg"
-            ),
+            } => {
+                let step = format!("{east_m} m east, {north_m} m north, {heading_deg} deg");
+                if count > 1 {
+                    format!(", {count} steps every {every_s} s of {step}")
+                } else {
+                    format!(", a step of {step}")
+                }
+            }
             _ => String::new(),
         };
         format!("{} from {a} s to {b} s{extra}", self.kind())
