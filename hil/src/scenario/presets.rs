@@ -12,8 +12,10 @@ pub enum MachineKind {
     /// A field tractor at 1-4 m/s (front-steered).
     Tractor,
     /// A small differential-drive robot at 0.3-2 m/s.
+    #[value(name = "small_robot", alias = "small-robot")]
     SmallRobot,
     /// A road vehicle at 5-15 m/s (front-steered).
+    #[value(name = "road_vehicle", alias = "road-vehicle")]
     RoadVehicle,
 }
 
