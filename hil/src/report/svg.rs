@@ -382,7 +382,8 @@ impl Plot {
         for ser in &self.series {
             draw_series(&mut s, ser, &mx, &my, (x1 - x0) / pw);
             if !ser.label.is_empty() {
-                legend.push((ser.label.clone(), ser.colour, ser.dash, None));
+                let shape = matches!(ser.style, Style::Dots(_)).then_some(Shape::Circle);
+                legend.push((ser.label.clone(), ser.colour, ser.dash, shape));
             }
         }
         for m in &self.markers {
