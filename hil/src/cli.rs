@@ -387,8 +387,9 @@ fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
 
 fn sweep_plan(a: &SweepArgs) -> anyhow::Result<sweep::Plan> {
     let mut base = overrides_of(&a.common)?;
-    // The seed comes from the seed range, and the duration is in the plan.
-    base.retain(|(k, _)| k != "seed" && k != "duration_s");
+    // The seed comes from the seed range; the duration stays an override,
+    // so that each combination checks it.
+    base.retain(|(k, _)| k != "seed");
     let mut params = Vec::new();
     for p in &a.params {
         params.push(sweep::parse_param(p)?);
@@ -410,7 +411,7 @@ fn sweep_plan(a: &SweepArgs) -> anyhow::Result<sweep::Plan> {
         base,
         params,
         seeds: a.first_seed..last + 1,
-        duration_s: a.common.duration,
+        duration_s: None,
     })
 }
 
@@ -489,13 +490,10 @@ fn bench_verb(a: BenchArgs) -> anyhow::Result<bool> {
     );
     let plan = sweep::Plan {
         source: a.scenario.clone(),
-        base: base
-            .into_iter()
-            .filter(|(k, _)| k != "seed" && k != "duration_s")
-            .collect(),
+        base: base.into_iter().filter(|(k, _)| k != "seed").collect(),
         params: Vec::new(),
         seeds: 1..1 + a.runs,
-        duration_s: a.common.duration,
+        duration_s: None,
     };
     let jobs = plan.jobs()?;
     let wall = Instant::now();

@@ -174,6 +174,8 @@ fn meaningless_start_and_timing_values_are_refused_naming_the_field() {
     .map(|s| parse_assignment(s).unwrap())
     .collect();
     load("field", &o).expect("consistent timing is accepted");
+    // Sampled on the physics grid: a faster rate used to be lowered silently.
+    refused_by_check(&["metrics.record_hz=5000.0"], "metrics.record_hz");
     // A fault longer than any run.
     refused_by_check(
         &["faults=[{type=\"gnss_stale\", at_s=1.0, duration_s=1e300}]"],

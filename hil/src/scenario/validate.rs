@@ -140,6 +140,23 @@ pub(super) fn check(s: &ScenarioFile) -> Check {
     check_gnss(&s.gnss)?;
     check_controller(&s.controller, s.physics_hz)?;
     check_fix_age(&s.gnss, &s.controller.supervisor)?;
+    // Both are sampled on the physics grid: a faster rate would silently
+    // become the physics rate.
+    for (field, rate) in [
+        ("gnss.rate_hz", s.gnss.rate_hz),
+        ("metrics.record_hz", s.metrics.record_hz),
+    ] {
+        if rate > s.physics_hz {
+            return fail(
+                field,
+                format!(
+                    "{} Hz is faster than physics_hz ({} Hz), which samples it",
+                    show(rate),
+                    show(s.physics_hz)
+                ),
+            );
+        }
+    }
     for (i, f) in s.faults.iter().enumerate() {
         check_fault(&format!("faults[{i}]"), f)?;
     }
