@@ -29,7 +29,10 @@ pub fn files(scenario: &Scenario, m: &Metrics, run: &RunOutput) -> Vec<(&'static
         ("path.svg", path_plot(scenario, run)),
         ("deviation.svg", deviation_plot(scenario, run)),
         ("cross_track.svg", cross_track_plot(scenario, run)),
-        ("cross_track_histogram.svg", histogram_plot(scenario, m)),
+        (
+            "cross_track_histogram.svg",
+            histogram_plot(scenario, m, run),
+        ),
         ("steering.svg", steering_plot(scenario, run)),
         ("heading_error.svg", heading_plot(scenario, run)),
         ("speed.svg", speed_plot(scenario, run)),
@@ -398,17 +401,45 @@ pub fn cross_track_plot(scenario: &Scenario, run: &RunOutput) -> Plot {
     p
 }
 
-/// Histogram of the straight-pass cross-track error, with its limits.
-pub fn histogram_plot(scenario: &Scenario, m: &Metrics) -> Plot {
-    let bars: Vec<(f64, f64)> = m
-        .straight_histogram
+/// About 40 bins of a round width (1, 2 or 5 times a power of ten) over
+/// the samples, symmetric about zero: `(centre, count)` and the width.
+fn fine_bins(samples: &[f64]) -> (Vec<(f64, f64)>, f64) {
+    let worst = samples.iter().map(|v| v.abs()).fold(0.0, f64::max);
+    if !(worst.is_finite() && worst > 0.0) {
+        return (Vec::new(), 0.01);
+    }
+    let raw = worst / 20.0;
+    let mag = 10f64.powf(raw.log10().floor());
+    let width = [1.0, 2.0, 5.0, 10.0]
         .iter()
-        .map(|b| (0.5 * (b.from_m + b.to_m), b.count as f64))
+        .map(|m| m * mag)
+        .find(|w| *w >= raw)
+        .unwrap_or(10.0 * mag);
+    let n = (worst / width).floor() as i64 + 1;
+    let mut counts = vec![0usize; (2 * n) as usize];
+    for v in samples {
+        let i = ((v / width).floor() as i64 + n).clamp(0, 2 * n - 1) as usize;
+        if let Some(c) = counts.get_mut(i) {
+            *c += 1;
+        }
+    }
+    let bins = counts
+        .iter()
+        .enumerate()
+        .map(|(i, c)| (((i as i64 - n) as f64 + 0.5) * width, *c as f64))
         .collect();
-    let width = m
-        .straight_histogram
-        .first()
-        .map_or(0.01, |b| b.to_m - b.from_m);
+    (bins, width)
+}
+
+/// Histogram of the straight-pass cross-track error, with its limits.
+pub fn histogram_plot(scenario: &Scenario, m: &Metrics, run: &RunOutput) -> Plot {
+    let samples: Vec<f64> = run
+        .trace
+        .iter()
+        .filter(|r| r.straight_pass)
+        .map(|r| r.cross_track_m)
+        .collect();
+    let (bars, width) = fine_bins(&samples);
     let t = &scenario.spec.thresholds;
     let mut p = Plot::new(
         &format!(
@@ -417,9 +448,10 @@ pub fn histogram_plot(scenario: &Scenario, m: &Metrics) -> Plot {
             m.straight.count
         ),
         "cross-track error [m] (left positive)",
-        "samples",
+        "samples per bin",
         (900.0, 340.0),
     );
+    p.note = format!("bins {width} m wide");
     p.series =
         vec![Series::line("samples per bin", palette::STRAIGHT, bars).styled(Style::Bars(width))];
     for (v, name) in [
@@ -428,9 +460,9 @@ pub fn histogram_plot(scenario: &Scenario, m: &Metrics) -> Plot {
     ] {
         if let Some(l) = v {
             p.v_lines
-                .push(HLine::new(l, palette::LIMIT, &format!("{name} {l} m")));
+                .push(HLine::new(l, palette::LIMIT, &format!("{name} +{l} m")));
             p.v_lines
-                .push(HLine::new(-l, palette::LIMIT, &format!("-{l} m")));
+                .push(HLine::new(-l, palette::LIMIT, &format!("{name} -{l} m")));
         }
     }
     p.v_lines.push(HLine::new(
@@ -477,7 +509,7 @@ pub fn steering_plot(scenario: &Scenario, run: &RunOutput) -> Plot {
                 Series::line("actual (actuator)", palette::TRACK, thin(&act, MAX_POINTS))
                     .stroke(1.0, "3 2"),
             ];
-            p.h_lines = pm_lines(Some(max_steer_deg), palette::BOUND, "steering limit", "deg");
+            limit_in_view(&mut p, max_steer_deg, "steering limit", "deg");
             p
         }
         VehicleSpec::Differential {
@@ -517,6 +549,27 @@ pub fn steering_plot(scenario: &Scenario, run: &RunOutput) -> Plot {
             p
         }
     }
+}
+
+/// Draws `±limit` when the data come within a third of it; otherwise
+/// states it in the note, so that small commands stay readable.
+fn limit_in_view(p: &mut Plot, limit: f64, name: &str, unit: &str) {
+    let shown = p
+        .series
+        .iter()
+        .flat_map(|s| s.points.iter().map(|q| q.1.abs()))
+        .filter(|v| v.is_finite())
+        .fold(0.0, f64::max);
+    if shown >= limit / 3.0 {
+        p.h_lines
+            .extend(pm_lines(Some(limit), palette::BOUND, name, unit));
+    } else {
+        p.note = format!(
+            "{name} +-{limit} {unit}, off the scale: the largest command used {:.0} % of it",
+            100.0 * shown / limit
+        );
+    }
+    p.h_lines.push(HLine::new(0.0, palette::ZERO, ""));
 }
 
 /// Heading error against time, with the supervisor's limit when it is in view.

@@ -191,7 +191,8 @@ pub struct Plot {
     pub series: Vec<Series>,
     /// Horizontal lines such as limits.
     pub h_lines: Vec<HLine>,
-    /// Vertical lines (the value is on the horizontal axis), labelled at the top.
+    /// Vertical lines (the value is on the horizontal axis), labelled near the
+/// bottom (the legend sits at the top).
     pub v_lines: Vec<HLine>,
     /// Shaded bands over the horizontal axis.
     pub bands: Vec<Band>,
@@ -367,11 +368,16 @@ impl Plot {
                     l.colour
                 );
                 if !l.label.is_empty() {
+                    // Right of the line, or left of it near the right edge.
+                    let (tx, anchor) = if x > MARGIN_L + 0.7 * pw {
+                        (x - 3.0, "end")
+                    } else {
+                        (x + 3.0, "start")
+                    };
                     let _ = write!(
                         s,
-                        r#"<text x="{:.1}" y="{:.1}" font-size="10" fill="{}">{}</text>"#,
-                        x + 3.0,
-                        MARGIN_T + 12.0 + 12.0 * (i % 4) as f64,
+                        r#"<text x="{tx:.1}" y="{:.1}" text-anchor="{anchor}" font-size="10" fill="{}">{}</text>"#,
+                        MARGIN_T + ph - 6.0 - 12.0 * (i % 4) as f64,
                         l.colour,
                         esc(&l.label)
                     );
