@@ -2,13 +2,16 @@
 //!
 //! Each physics step (default 1 kHz): the sensors sample the true state if
 //! an epoch is due; on a control tick the controller gets the newest
-//! delivered epoch and returns set-points, which the actuators then follow;
+//! delivered epoch (after the stream faults of [`crate::sim::faults`]) and
+//! returns set-points, which the actuators then follow;
 //! on a record tick the representative point is projected onto the
 //! continuous path with the core's exact projection
 //! ([`crate::truth::TruthProjector`]) and a trace row is stored.
 //!
 //! Time is counted in whole physics steps, so the control and sensor ticks
-//! never drift against each other.
+//! never drift against each other. Memory is bounded whatever the
+//! duration: the trace is thinned when it fills ([`MAX_TRACE_ROWS`]) and
+//! the status log is capped ([`MAX_STATUS_CHANGES`]).
 
 use kappaline::{Pose, TrackStatus};
 

@@ -258,8 +258,9 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
         } else {
             0.0
         };
-        // A fix the lever-arm correction refuses (non-finite numbers) is
-        // handed on as it came: judging it is the supervisor's job.
+        // A fix with non-finite numbers is handed on as it came (judging it
+        // is the supervisor's job); any other refusal drops the epoch.
+        let finite = [m.x, m.y, m.heading, roll].iter().all(|v| v.is_finite());
         let (x, y) = match control_point(
             (f(m.x), f(m.y), self.arm.up()),
             f(m.heading),
@@ -267,7 +268,8 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
             &self.arm,
         ) {
             Ok(c) => (c.x, c.y),
-            Err(_) => (f(m.x), f(m.y)),
+            Err(_) if !finite => (f(m.x), f(m.y)),
+            Err(_) => return None,
         };
         Some(Fix {
             x,

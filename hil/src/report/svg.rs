@@ -192,7 +192,7 @@ pub struct Plot {
     /// Horizontal lines such as limits.
     pub h_lines: Vec<HLine>,
     /// Vertical lines (the value is on the horizontal axis), labelled near the
-/// bottom (the legend sits at the top).
+    /// bottom (the legend sits at the top).
     pub v_lines: Vec<HLine>,
     /// Shaded bands over the horizontal axis.
     pub bands: Vec<Band>,
