@@ -236,3 +236,51 @@ fn command_line_exit_codes() {
         assert!(text.contains(name), "{text}");
     }
 }
+
+/// `check` and `bench` take `--set`; `list` says where scenario files live;
+/// a malformed `--param` gets the format; `--help` states what `--out` is
+/// relative to.
+#[test]
+fn verbs_take_set_and_explain_themselves() {
+    let out = |args: &[&str]| {
+        let o = hil().args(args).output().unwrap();
+        (
+            o.status.code(),
+            String::from_utf8_lossy(&o.stdout).to_string(),
+            String::from_utf8_lossy(&o.stderr).to_string(),
+        )
+    };
+    let (code, _, err) = out(&["check", "field", "--set", "gnss.latency_s=0.5"]);
+    assert_eq!(code, Some(2));
+    assert!(err.contains("gnss.latency_s"), "{err}");
+    let (code, text, _) = out(&["check", "field", "--set", "gnss.noise_m=0.05"]);
+    assert_eq!(code, Some(0), "{text}");
+    let (code, text, err) = out(&[
+        "bench",
+        "warehouse",
+        "--runs",
+        "2",
+        "--duration",
+        "2",
+        "--set",
+        "controller.precision=\"f64\"",
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(text.contains("simulated s per wall s"), "{text}");
+    let (_, text, _) = out(&["list"]);
+    assert!(
+        text.contains("hil/scenarios/") && text.contains("init"),
+        "{text}"
+    );
+    let (code, _, err) = out(&["sweep", "-q", "--param", "gnss.noise_m=0.01:0.02"]);
+    assert_eq!(code, Some(2));
+    assert!(
+        err.contains("KEY=LO:HI:N") && err.contains("KEY=A,B,C"),
+        "{err}"
+    );
+    let (_, text, _) = out(&["run", "--help"]);
+    assert!(
+        text.contains("current directory") && text.contains("repository root"),
+        "{text}"
+    );
+}
