@@ -480,7 +480,22 @@ fn time_plot(scenario: &Scenario, title: &str, y_label: &str) -> Plot {
         y_label,
         (900.0, 320.0),
     );
-    p.bands = fault_bands(scenario);
+    // Faults with a window are shaded; an instant one (a single
+    // relocalisation step) is a labelled line.
+    for f in &scenario.spec.faults {
+        let (a, b) = f.window();
+        if b > a {
+            p.bands.push(Band {
+                from: a,
+                to: b,
+                colour: palette::FAULT,
+                label: f.kind().replace('_', " "),
+            });
+        } else {
+            p.v_lines
+                .push(HLine::new(a, palette::FAULT, &f.kind().replace('_', " ")));
+        }
+    }
     p
 }
 
