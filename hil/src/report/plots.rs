@@ -395,8 +395,19 @@ pub fn cross_track_plot(scenario: &Scenario, run: &RunOutput) -> Plot {
             thin(&straight, MAX_POINTS),
         ),
     ];
-    if let Some(l) = t.straight_rms_m {
-        p.note = format!("straight-pass RMS limit {l} m (a statistic, not drawn as a line)");
+    // Limits on statistics are not bounds on single samples: stated, not drawn.
+    let stats: Vec<String> = [
+        ("straight RMS", t.straight_rms_m),
+        ("curved RMS", t.curved_rms_m),
+    ]
+    .iter()
+    .filter_map(|(n, v)| v.map(|l| format!("{n} <= {l} m")))
+    .collect();
+    if !stats.is_empty() {
+        p.note = format!(
+            "limits on statistics, not drawn as lines: {}",
+            stats.join(", ")
+        );
     }
     p
 }

@@ -44,10 +44,10 @@ pub fn starting_scenario(kind: MachineKind, name: &str) -> String {
          precision = \"f32\"             # \"f32\" as on a single-precision FPU, or \"f64\"\n\
          # The Frenet law with the core's preset for this kind; the other two laws with\n\
          # their presets (switch on the command line with --set controller.law.kind=stanley):\n\
-         law = {{ kind = \"frenet\", cross_track_gain_per_m2 = {kd}, heading_gain_per_m = {kh} }}\n\
-         # law = {{ kind = \"pure_pursuit\", lookahead_base_m = {pb}, lookahead_time_s = {pt}, lookahead_min_m = {pmin}, lookahead_max_m = {pmax} }}\n\
-         # law = {{ kind = \"stanley\", gain_per_s = {sg}, softening_m_s = {ss}, virtual_wheelbase_m = {sw} }}\n\
-         tracker = {{ window_back_m = {wb}, window_ahead_m = {wa}, lost_distance_m = {lost}, lookahead_m = {look}, heading_weight_m = {hw} }}\n\
+         law = {{ kind = \"frenet\", cross_track_gain_per_m2 = {kd:?}, heading_gain_per_m = {kh:?} }}\n\
+         # law = {{ kind = \"pure_pursuit\", lookahead_base_m = {pb:?}, lookahead_time_s = {pt:?}, lookahead_min_m = {pmin:?}, lookahead_max_m = {pmax:?} }}\n\
+         # law = {{ kind = \"stanley\", gain_per_s = {sg:?}, softening_m_s = {ss:?}, virtual_wheelbase_m = {sw:?} }}\n\
+         tracker = {{ window_back_m = {wb:?}, window_ahead_m = {wa:?}, lost_distance_m = {lost:?}, lookahead_m = {look:?}, heading_weight_m = {hw:?} }}\n\
          # supervisor = {{ max_fix_age_s = 0.3, hold_time_s = 0.5 }}   # the core's defaults when absent\n",
         rate = if kind == MachineKind::SmallRobot { 50.0 } else { 20.0 },
     );
