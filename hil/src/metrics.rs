@@ -43,8 +43,13 @@ pub struct ErrorStats {
 }
 
 impl ErrorStats {
-    /// Statistics of `samples` (all zero when empty).
+    /// Statistics of the finite `samples` (all zero when there are none);
+    /// non-finite samples are skipped (the run counts them in
+    /// [`Metrics::non_finite`], and its check fails on them), so that every
+    /// figure stays a number.
     pub fn of(samples: &[f64]) -> Self {
+        let finite: Vec<f64> = samples.iter().copied().filter(|v| v.is_finite()).collect();
+        let samples = finite.as_slice();
         let n = samples.len();
         if n == 0 {
             return Self::default();
