@@ -168,7 +168,8 @@ struct SweepArgs {
     #[arg(long, value_name = "K/N", value_parser = Shard::parse)]
     shard: Option<Shard>,
     /// Directory for the sweep report (summary.txt, result.json, one plot
-    /// per metric against each swept parameter) or the shard file. A
+    /// per metric against the first numeric swept parameter, or the seed)
+    /// or the shard file. A
     /// relative path is taken from the current directory.
     #[arg(long, default_value = "hil/out/sweep")]
     out: PathBuf,
@@ -386,10 +387,12 @@ fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
 }
 
 fn sweep_plan(a: &SweepArgs) -> anyhow::Result<sweep::Plan> {
-    let mut base = overrides_of(&a.common)?;
-    // The seed comes from the seed range; the duration stays an override,
-    // so that each combination checks it.
-    base.retain(|(k, _)| k != "seed");
+    anyhow::ensure!(
+        a.common.seed.is_none(),
+        "--seed: a sweep takes its seeds from --first-seed and --seeds"
+    );
+    // The duration stays an override, so that each combination checks it.
+    let base = overrides_of(&a.common)?;
     let mut params = Vec::new();
     for p in &a.params {
         params.push(sweep::parse_param(p)?);

@@ -122,6 +122,11 @@ fn seeds_out_of_range_are_named_not_wrapped() {
         ],
         &["--first-seed", "--seeds", "last seed"],
     );
+    // A single seed means nothing to a sweep: refused, not ignored.
+    refused(
+        &["sweep", "-q", "--seeds", "2", "--seed", "5"],
+        &["--seed", "--first-seed"],
+    );
     // Used to be reported as "invalid value: integer `-1`".
     let o = hil(&["run", "-q", "--no-report", "--seed", "18446744073709551615"]);
     let err = String::from_utf8_lossy(&o.stderr);
