@@ -1,6 +1,6 @@
 //! The command line: `run`, `list`, `check`, `sweep`, `bench`, `build-path`.
 
-use std::path::PathBuf;
+use std::path::{Path as FsPath, PathBuf};
 use std::process::ExitCode;
 use std::time::Instant;
 
@@ -8,7 +8,9 @@ use clap::{Args, Parser, Subcommand};
 use indicatif::{ProgressBar, ProgressStyle};
 
 use crate::closed_loop::RunOptions;
-use crate::scenario::{self, builtin::BUILTINS, overrides};
+use crate::scenario::presets::MachineKind;
+use crate::scenario::{self, builtin::BUILTINS, overrides, validate};
+use crate::sweep::Shard;
 use crate::{report, runner, sweep};
 
 /// Host-side harness for kappaline: runs the controller in a simulated
@@ -26,15 +28,18 @@ enum Verb {
     /// Run one scenario (default: the built-in field), print the metrics,
     /// write the report; exit 1 if a threshold is missed.
     Run(RunArgs),
-    /// List the built-in scenarios.
+    /// List the built-in scenarios and where scenario files live.
     List,
-    /// Check a scenario file without running it.
-    Check {
-        /// Scenario file or built-in name.
-        scenario: String,
-    },
-    /// Monte-Carlo sweep over seeds and parameter ranges, on all cores.
+    /// Check a scenario file (with any `--set`) without running it.
+    Check(CheckArgs),
+    /// Write a commented starting scenario for a machine kind.
+    Init(InitArgs),
+    /// Monte-Carlo sweep over seeds and parameter ranges, on all cores
+    /// (`--shard K/N` runs one slice; `merge` combines the slices).
     Sweep(SweepArgs),
+    /// Combine the shard files of one sweep into the summary, plots and
+    /// pass rate of the whole sweep.
+    Merge(MergeArgs),
     /// Measure simulated seconds per wall-clock second.
     Bench(BenchArgs),
     /// Build a path from waypoints (CSV or GeoJSON) into a firmware source
@@ -47,16 +52,56 @@ enum Verb {
     },
 }
 
-#[derive(Debug, Args)]
+/// `--seed`: a whole number a scenario file can hold.
+fn seed_value(v: &str) -> Result<u64, String> {
+    let max = validate::MAX_FILE_SEED;
+    match v.trim().parse::<u64>() {
+        Ok(n) if n <= max => Ok(n),
+        _ => Err(format!(
+            "`{v}`: a seed is a whole number from 0 to {max} (a scenario file's integers are signed 64-bit)"
+        )),
+    }
+}
+
+/// `--duration`: finite, > 0, at most the scenario limit.
+fn duration_value(v: &str) -> Result<f64, String> {
+    let max = validate::MAX_DURATION_S;
+    match v.trim().parse::<f64>() {
+        Ok(d) if d.is_finite() && d > 0.0 && d <= max => Ok(d),
+        _ => Err(format!(
+            "`{v}`: a duration in seconds, > 0 and at most {max}"
+        )),
+    }
+}
+
+/// `--seeds`: at least 1.
+fn seed_count(v: &str) -> Result<u64, String> {
+    match v.trim().parse::<u64>() {
+        Ok(n) if n >= 1 => Ok(n),
+        _ => Err(format!("`{v}`: the number of seeds, a whole number >= 1")),
+    }
+}
+
+/// `--runs`: 1 to 10000.
+fn run_count(v: &str) -> Result<u64, String> {
+    match v.trim().parse::<u64>() {
+        Ok(n) if (1..=10_000).contains(&n) => Ok(n),
+        _ => Err(format!("`{v}`: a whole number from 1 to 10000")),
+    }
+}
+
+#[derive(Debug, Args, Default)]
 struct Common {
-    /// Override a scenario value, e.g. `--set gnss.noise_m=0.05` (repeatable).
+    /// Override a scenario value, e.g. `--set gnss.noise_m=0.05` (repeatable,
+    /// applied in order). `--set controller.law.kind=stanley` switches the
+    /// steering law, with the core's preset gains for the vehicle's kind.
     #[arg(long = "set", value_name = "KEY=VALUE")]
     set: Vec<String>,
-    /// Seed of the random streams (default: the scenario's).
-    #[arg(long)]
+    /// Seed of the random streams (default: the scenario's), 0 to 2^63-1.
+    #[arg(long, value_parser = seed_value, allow_hyphen_values = true)]
     seed: Option<u64>,
-    /// Simulated duration, s (default: the scenario's).
-    #[arg(long)]
+    /// Simulated duration, s (default: the scenario's), > 0 and at most 100000.
+    #[arg(long, value_parser = duration_value, allow_hyphen_values = true)]
     duration: Option<f64>,
 }
 
@@ -67,7 +112,10 @@ struct RunArgs {
     scenario: String,
     #[command(flatten)]
     common: Common,
-    /// Directory for the report (one sub-directory per scenario).
+    /// Directory for the report (one sub-directory per scenario). A relative
+    /// path is taken from the current directory: the default `hil/out`
+    /// assumes the command runs from the repository root, as `cargo run`
+    /// from there does.
     #[arg(long, default_value = "hil/out")]
     out: PathBuf,
     /// Do not write the report.
@@ -79,23 +127,53 @@ struct RunArgs {
 }
 
 #[derive(Debug, Args)]
+struct CheckArgs {
+    /// Scenario file (TOML) or built-in name.
+    scenario: String,
+    #[command(flatten)]
+    common: Common,
+}
+
+#[derive(Debug, Args)]
+struct InitArgs {
+    /// File to write (refused if it exists, unless --force).
+    file: PathBuf,
+    /// Kind of machine: its core presets give the gains and tracker settings.
+    #[arg(long, value_enum, default_value_t = MachineKind::Tractor)]
+    kind: MachineKind,
+    /// Overwrite an existing file.
+    #[arg(long)]
+    force: bool,
+}
+
+#[derive(Debug, Args)]
 struct SweepArgs {
     /// Scenario file (TOML) or built-in name.
     #[arg(default_value = "field")]
     scenario: String,
     #[command(flatten)]
     common: Common,
-    /// Number of seeds per parameter combination.
-    #[arg(long, default_value_t = 100)]
+    /// Number of seeds per parameter combination (>= 1).
+    #[arg(long, default_value_t = 100, value_parser = seed_count, allow_hyphen_values = true)]
     seeds: u64,
-    /// First seed.
-    #[arg(long, default_value_t = 1)]
+    /// First seed; the last one, first + seeds - 1, must stay within 0 to 2^63-1.
+    #[arg(long, default_value_t = 1, value_parser = seed_value, allow_hyphen_values = true)]
     first_seed: u64,
     /// A parameter range `KEY=LO:HI:N` (N values from LO to HI) or a list
     /// `KEY=A,B,C` (repeatable; the sweep runs every combination).
     #[arg(long = "param", value_name = "KEY=RANGE")]
     params: Vec<String>,
-    /// Write every run's figures to this CSV file.
+    /// Run only the K-th of N disjoint slices of the sweep (1 <= K <= N), and
+    /// write its results to `--out`/shard-K-of-N.json for `merge`.
+    #[arg(long, value_name = "K/N", value_parser = Shard::parse)]
+    shard: Option<Shard>,
+    /// Directory for the sweep report (summary.txt, result.json, one plot
+    /// per metric against the first numeric swept parameter, or the seed)
+    /// or the shard file. A
+    /// relative path is taken from the current directory.
+    #[arg(long, default_value = "hil/out/sweep")]
+    out: PathBuf,
+    /// Write every run's figures to this CSV file as well.
     #[arg(long)]
     csv: Option<PathBuf>,
     /// No progress bar.
@@ -104,12 +182,28 @@ struct SweepArgs {
 }
 
 #[derive(Debug, Args)]
+struct MergeArgs {
+    /// The shard files (`shard-K-of-N.json`) of one sweep, all N of them.
+    #[arg(required = true)]
+    shards: Vec<PathBuf>,
+    /// Directory for the merged sweep report. A relative path is taken from
+    /// the current directory.
+    #[arg(long, default_value = "hil/out/sweep")]
+    out: PathBuf,
+    /// Write every run's figures to this CSV file as well.
+    #[arg(long)]
+    csv: Option<PathBuf>,
+}
+
+#[derive(Debug, Args)]
 struct BenchArgs {
     /// Scenario file (TOML) or built-in name.
     #[arg(default_value = "field")]
     scenario: String,
-    /// Runs on all cores for the parallel figure.
-    #[arg(long, default_value_t = 8)]
+    #[command(flatten)]
+    common: Common,
+    /// Runs on all cores for the parallel figure (1 to 10000).
+    #[arg(long, default_value_t = 8, value_parser = run_count, allow_hyphen_values = true)]
     runs: u64,
 }
 
@@ -119,11 +213,7 @@ pub fn main() -> ExitCode {
     let cli = Cli::parse();
     match dispatch(cli.verb.unwrap_or(Verb::Run(RunArgs {
         scenario: "field".into(),
-        common: Common {
-            set: Vec::new(),
-            seed: None,
-            duration: None,
-        },
+        common: Common::default(),
         out: PathBuf::from("hil/out"),
         no_report: false,
         quiet: false,
@@ -140,12 +230,31 @@ pub fn main() -> ExitCode {
 fn overrides_of(c: &Common) -> anyhow::Result<Vec<(String, toml::Value)>> {
     let mut out = Vec::new();
     for s in &c.set {
-        out.push(overrides::parse_assignment(s).map_err(anyhow::Error::msg)?);
+        out.push(overrides::parse_assignment(s).map_err(|e| anyhow::anyhow!("--set {e}"))?);
     }
     if let Some(seed) = c.seed {
-        out.push(("seed".into(), toml::Value::Integer(seed as i64)));
+        let seed = i64::try_from(seed).map_err(|_| anyhow::anyhow!("--seed: too large"))?;
+        out.push(("seed".into(), toml::Value::Integer(seed)));
+    }
+    if let Some(d) = c.duration {
+        out.push(("duration_s".into(), toml::Value::Float(d)));
     }
     Ok(out)
+}
+
+/// Checks that `path` can be created before a long run, naming the option.
+fn writable_file(option: &str, path: &FsPath) -> anyhow::Result<()> {
+    let parent = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(FsPath::new("."));
+    anyhow::ensure!(
+        parent.is_dir(),
+        "{option} {}: the folder {} does not exist",
+        path.display(),
+        parent.display()
+    );
+    Ok(())
 }
 
 fn bar(total: f64, quiet: bool, unit: &str) -> ProgressBar {
@@ -163,31 +272,23 @@ fn bar(total: f64, quiet: bool, unit: &str) -> ProgressBar {
 
 fn dispatch(verb: Verb) -> anyhow::Result<bool> {
     match verb {
-        Verb::List => {
-            for b in BUILTINS {
-                let s = scenario::Scenario::parse(b.text, b.name)?;
-                println!(
-                    "{:<12} {:>7.1} m path, {:>6.1} s  {}",
-                    b.name,
-                    s.path.length(),
-                    s.spec.duration_s,
-                    s.spec.description
-                );
-            }
-            Ok(true)
-        }
-        Verb::Check { scenario } => {
-            let s = scenario::load(&scenario, &[])?;
+        Verb::List => list_verb(),
+        Verb::Check(a) => {
+            let s = scenario::load(&a.scenario, &overrides_of(&a.common)?)?;
             println!(
-                "{}: ok ({} segments, {:.1} m)",
-                scenario,
+                "{}: ok ({} segments, {:.1} m, {:.1} s, {} fault(s))",
+                a.scenario,
                 s.path.len(),
-                s.path.length()
+                s.path.length(),
+                s.spec.duration_s,
+                s.spec.faults.len()
             );
             Ok(true)
         }
+        Verb::Init(a) => init_verb(a),
         Verb::Run(a) => run_verb(a),
         Verb::Sweep(a) => sweep_verb(a),
+        Verb::Merge(a) => merge_verb(a),
         Verb::Bench(a) => bench_verb(a),
         Verb::BuildPath { args } => {
             crate::pathcmd::run(&args)?;
@@ -196,16 +297,74 @@ fn dispatch(verb: Verb) -> anyhow::Result<bool> {
     }
 }
 
+fn list_verb() -> anyhow::Result<bool> {
+    for b in BUILTINS {
+        let s = scenario::Scenario::parse(b.text, b.name)?;
+        println!(
+            "{:<12} {:>7.1} m path, {:>6.1} s  {}",
+            b.name,
+            s.path.length(),
+            s.spec.duration_s,
+            s.spec.description
+        );
+    }
+    println!();
+    println!("The built-ins are compiled in; their files are hil/scenarios/*.toml in the");
+    println!("repository (copy one to start your own, or write one with `init FILE --kind KIND`).");
+    println!("Any other scenario is a TOML file given by its path, relative to the current");
+    println!("directory; hil/SCENARIOS.md describes every key.");
+    Ok(true)
+}
+
+fn init_verb(a: InitArgs) -> anyhow::Result<bool> {
+    anyhow::ensure!(
+        a.force || !a.file.exists(),
+        "{} exists; pass --force to overwrite it",
+        a.file.display()
+    );
+    writable_file("init", &a.file)?;
+    let stem = a
+        .file
+        .file_stem()
+        .map(|s| s.to_string_lossy().to_string())
+        .unwrap_or_default();
+    let name: String = stem
+        .chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    let name = if name.is_empty() {
+        "my_scenario".into()
+    } else {
+        name
+    };
+    let text = scenario::template::starting_scenario(a.kind, &name);
+    // What is written must check.
+    scenario::Scenario::parse(&text, &a.file.display().to_string())?;
+    std::fs::write(&a.file, text)
+        .map_err(|e| anyhow::anyhow!("writing {}: {e}", a.file.display()))?;
+    println!(
+        "wrote {} (a {} scenario); check it with `check {}`, run it with `run {}`",
+        a.file.display(),
+        a.kind.name(),
+        a.file.display(),
+        a.file.display()
+    );
+    Ok(true)
+}
+
 fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
     let s = scenario::load(&a.scenario, &overrides_of(&a.common)?)?;
-    let duration = a.common.duration.unwrap_or(s.spec.duration_s);
+    let duration = s.spec.duration_s;
     let pb = bar(duration, a.quiet, "sim s");
     let tick = |t: f64| pb.set_position(t as u64);
-    let opts = RunOptions {
-        duration_s: a.common.duration,
-    };
     let wall = Instant::now();
-    let out = runner::run(&s, opts, Some(&tick))?;
+    let out = runner::run(&s, RunOptions::default(), Some(&tick))?;
     pb.finish_and_clear();
     let secs = wall.elapsed().as_secs_f64();
     print!(
@@ -219,35 +378,62 @@ fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
     if !a.no_report {
         let dir = report::write_all(&a.out, &s, &out.metrics, &out.checks, &out.run)?;
         println!(
-            "report: {}  (trace.csv, path.svg, cross_track.svg, summary.txt)",
-            dir.join("report.html").display()
+            "report: {}  ({})",
+            dir.join("report.html").display(),
+            report::FILES.join(", ")
         );
     }
     Ok(out.pass())
 }
 
-fn sweep_verb(a: SweepArgs) -> anyhow::Result<bool> {
+fn sweep_plan(a: &SweepArgs) -> anyhow::Result<sweep::Plan> {
+    anyhow::ensure!(
+        a.common.seed.is_none(),
+        "--seed: a sweep takes its seeds from --first-seed and --seeds"
+    );
+    // The duration stays an override, so that each combination checks it.
     let base = overrides_of(&a.common)?;
     let mut params = Vec::new();
     for p in &a.params {
         params.push(sweep::parse_param(p)?);
     }
-    let plan = sweep::Plan {
+    let last = a
+        .first_seed
+        .checked_add(a.seeds - 1)
+        .filter(|l| *l <= validate::MAX_FILE_SEED)
+        .ok_or_else(|| {
+            anyhow::anyhow!(
+                "--first-seed {} --seeds {}: the last seed would pass {}",
+                a.first_seed,
+                a.seeds,
+                validate::MAX_FILE_SEED
+            )
+        })?;
+    Ok(sweep::Plan {
         source: a.scenario.clone(),
         base,
         params,
-        seeds: a.first_seed..a.first_seed + a.seeds,
-        duration_s: a.common.duration,
-    };
-    let jobs = plan.jobs()?;
+        seeds: a.first_seed..last + 1,
+        duration_s: None,
+    })
+}
+
+fn sweep_verb(a: SweepArgs) -> anyhow::Result<bool> {
+    let plan = sweep_plan(&a)?;
+    if let Some(csv) = &a.csv {
+        writable_file("--csv", csv)?;
+    }
+    let shard = a.shard.unwrap_or(Shard::WHOLE);
+    let jobs = plan.shard_jobs(shard)?;
+    std::fs::create_dir_all(&a.out)
+        .map_err(|e| anyhow::anyhow!("--out {}: {e}", a.out.display()))?;
     let pb = bar(jobs.len() as f64, a.quiet, "runs");
     let wall = Instant::now();
     let results = sweep::run(&plan, &jobs, &|| pb.inc(1))?;
     pb.finish_and_clear();
     let secs = wall.elapsed().as_secs_f64();
-    print!("{}", sweep::summary(&plan, &results));
     let sim: f64 = results.iter().map(|r| r.metrics.sim_time_s).sum();
-    println!(
+    let speed = format!(
         "{} runs, {:.0} simulated s in {:.2} wall s on {} threads: {:.0} simulated s per wall s",
         results.len(),
         sim,
@@ -255,15 +441,46 @@ fn sweep_verb(a: SweepArgs) -> anyhow::Result<bool> {
         rayon::current_num_threads(),
         sim / secs.max(1e-9)
     );
-    if let Some(path) = &a.csv {
-        sweep::write_csv(path, &plan, &results)?;
+    if a.shard.is_some() {
+        let file = sweep::write_shard(&a.out, &plan, shard, &results)?;
+        println!(
+            "shard {}/{}: {speed}\nresults: {} (combine all {} with `merge`)",
+            shard.index,
+            shard.count,
+            file.display(),
+            shard.count
+        );
+        return Ok(results.iter().all(|r| r.pass));
+    }
+    let stored = sweep::Stored::of(&plan, Shard::WHOLE, results)?;
+    finish_sweep(&stored, &a.out, a.csv.as_deref())?;
+    println!("{speed}");
+    Ok(stored.results.iter().all(|r| r.pass))
+}
+
+fn finish_sweep(stored: &sweep::Stored, out: &FsPath, csv: Option<&FsPath>) -> anyhow::Result<()> {
+    print!("{}", stored.summary());
+    let dir = sweep::write_report(out, stored)?;
+    println!("sweep report: {}", dir.display());
+    if let Some(path) = csv {
+        sweep::write_csv(path, &stored.plan(), &stored.results)?;
         println!("runs written to {}", path.display());
     }
-    Ok(results.iter().all(|r| r.pass))
+    Ok(())
+}
+
+fn merge_verb(a: MergeArgs) -> anyhow::Result<bool> {
+    if let Some(csv) = &a.csv {
+        writable_file("--csv", csv)?;
+    }
+    let stored = sweep::merge(&a.shards)?;
+    finish_sweep(&stored, &a.out, a.csv.as_deref())?;
+    Ok(stored.results.iter().all(|r| r.pass))
 }
 
 fn bench_verb(a: BenchArgs) -> anyhow::Result<bool> {
-    let s = scenario::load(&a.scenario, &[])?;
+    let base = overrides_of(&a.common)?;
+    let s = scenario::load(&a.scenario, &base)?;
     let wall = Instant::now();
     let one = runner::run(&s, RunOptions::default(), None)?;
     let single = wall.elapsed().as_secs_f64();
@@ -276,7 +493,7 @@ fn bench_verb(a: BenchArgs) -> anyhow::Result<bool> {
     );
     let plan = sweep::Plan {
         source: a.scenario.clone(),
-        base: Vec::new(),
+        base: base.into_iter().filter(|(k, _)| k != "seed").collect(),
         params: Vec::new(),
         seeds: 1..1 + a.runs,
         duration_s: None,

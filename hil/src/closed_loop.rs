@@ -2,13 +2,16 @@
 //!
 //! Each physics step (default 1 kHz): the sensors sample the true state if
 //! an epoch is due; on a control tick the controller gets the newest
-//! delivered epoch and returns set-points, which the actuators then follow;
+//! delivered epoch (after the stream faults of [`crate::sim::faults`]) and
+//! returns set-points, which the actuators then follow;
 //! on a record tick the representative point is projected onto the
 //! continuous path with the core's exact projection
 //! ([`crate::truth::TruthProjector`]) and a trace row is stored.
 //!
 //! Time is counted in whole physics steps, so the control and sensor ticks
-//! never drift against each other.
+//! never drift against each other. Memory is bounded whatever the
+//! duration: the trace is thinned when it fills ([`MAX_TRACE_ROWS`]) and
+//! the status log is capped ([`MAX_STATUS_CHANGES`]).
 
 use kappaline::{Pose, TrackStatus};
 
@@ -16,8 +19,8 @@ use crate::firmware::{Actuation, Cycle, Firmware, SupervisorStatus};
 use crate::scenario::{FaultSpec, Scenario, VehicleSpec};
 use crate::sim::sensors::AntennaMount;
 use crate::sim::{
-    Bicycle, BodyState, DiffDrive, Drive, GnssFault, GnssModel, LagActuator, Plant, SensorSuite,
-    Terrain,
+    Bicycle, BodyState, DiffDrive, Drive, FaultInjector, GnssFault, GnssModel, LagActuator, Plant,
+    SensorSuite, StreamFault, Terrain,
 };
 use crate::truth::TruthProjector;
 
@@ -83,13 +86,30 @@ pub struct StatusChange {
     pub status: SupervisorStatus,
 }
 
+/// Most trace rows a run keeps in memory. When a long run fills them, every
+/// second row is dropped and from then on only every second record tick is
+/// kept (and so on), so the trace covers the whole run at a coarser rate
+/// and memory stays bounded whatever the duration; the report says so.
+pub const MAX_TRACE_ROWS: usize = 250_000;
+/// Most status changes a run keeps (the rest are counted).
+pub const MAX_STATUS_CHANGES: usize = 100_000;
+
 /// What a run produced.
 #[derive(Debug, Clone)]
 pub struct RunOutput {
-    /// Recorded samples.
+    /// Recorded samples (at most [`MAX_TRACE_ROWS`]).
     pub trace: Vec<TraceRow>,
-    /// Status changes in order (the first entry is the first status).
+    /// Every how many record ticks a row was kept at the end (1 unless the
+    /// run was long enough to thin the trace).
+    pub trace_every: u64,
+    /// Status changes in order (the first entry is the first status; at
+    /// most [`MAX_STATUS_CHANGES`]).
     pub statuses: Vec<StatusChange>,
+    /// Status changes not kept because the log was full.
+    pub statuses_dropped: usize,
+    /// Why the run stopped before its duration, if it did for a reason
+    /// other than reaching the end of an open path.
+    pub stopped_early: Option<String>,
     /// Time spent in each status, s, indexed by [`SupervisorStatus::index`].
     pub status_time_s: [f64; 6],
     /// Simulated time, s.
@@ -218,9 +238,54 @@ fn sensor_faults(s: &Scenario) -> Vec<GnssFault> {
                 solution: solution.core(),
                 extra_noise_m,
             }),
-            FaultSpec::SteerStuck { .. } => None,
+            _ => None,
         })
         .collect()
+}
+
+/// The faults of the epoch stream (between receiver and firmware).
+pub fn stream_faults(s: &Scenario) -> Vec<StreamFault> {
+    let mut out = Vec::new();
+    for f in &s.spec.faults {
+        match *f {
+            FaultSpec::GnssNonFinite { at_s, duration_s } => out.push(StreamFault::NonFinite {
+                from_s: at_s,
+                until_s: at_s + duration_s,
+            }),
+            FaultSpec::GnssStale { at_s, duration_s } => out.push(StreamFault::Stale {
+                from_s: at_s,
+                until_s: at_s + duration_s,
+            }),
+            FaultSpec::LatencySpike {
+                at_s,
+                duration_s,
+                extra_latency_s,
+            } => out.push(StreamFault::Delay {
+                from_s: at_s,
+                until_s: at_s + duration_s,
+                extra_s: extra_latency_s,
+            }),
+            FaultSpec::Relocalisation {
+                at_s,
+                count,
+                every_s,
+                east_m,
+                north_m,
+                heading_deg,
+            } => {
+                for i in 0..count {
+                    out.push(StreamFault::Step {
+                        at_s: at_s + f64::from(i) * every_s,
+                        dx_m: east_m,
+                        dy_m: north_m,
+                        dheading_rad: heading_deg.to_radians(),
+                    });
+                }
+            }
+            _ => {}
+        }
+    }
+    out
 }
 
 fn steer_stuck(s: &Scenario, t: f64) -> bool {
@@ -276,7 +341,15 @@ pub fn run<F: Firmware + ?Sized>(
     let per_record = (spec.physics_hz / spec.metrics.record_hz).round().max(1.0) as u64;
     let control_dt = per_cycle as f64 * h;
     let duration = options.duration_s.unwrap_or(spec.duration_s);
+    // The scenario check bounds the duration; a caller's override is
+    // bounded here too, so the step count always fits.
+    let duration = if duration.is_finite() {
+        duration.clamp(0.0, crate::scenario::validate::MAX_DURATION_S)
+    } else {
+        0.0
+    };
     let steps = (duration / h).round() as u64;
+    let mut injector = FaultInjector::new(stream_faults(scenario));
     let top_speed = match spec.vehicle {
         VehicleSpec::Bicycle { max_speed_m_s, .. }
         | VehicleSpec::Differential { max_speed_m_s, .. } => max_speed_m_s,
@@ -297,8 +370,11 @@ pub fn run<F: Firmware + ?Sized>(
     let mut last: Option<Actuation> = None;
     let mut last_fix: Option<crate::sim::Measurement> = None;
     let mut out = RunOutput {
-        trace: Vec::with_capacity((steps / per_record + 1) as usize),
+        trace: Vec::with_capacity(((steps / per_record + 1) as usize).min(MAX_TRACE_ROWS)),
+        trace_every: 1,
         statuses: Vec::new(),
+        statuses_dropped: 0,
+        stopped_early: None,
         status_time_s: [0.0; 6],
         sim_time_s: 0.0,
         control_dt_s: control_dt,
@@ -306,6 +382,7 @@ pub fn run<F: Firmware + ?Sized>(
         non_finite: 0,
     };
     let mut progress_m = 0.0;
+    let mut record_tick: u64 = 0;
     let mut last_station: Option<f64> = None;
     let mut past_end_since: Option<f64> = None;
     let point_ahead = spec.metrics.point_ahead_m;
@@ -316,7 +393,7 @@ pub fn run<F: Firmware + ?Sized>(
         let (speed, _) = plant.motion(&state);
         sensors.observe(t, &state, speed, roll);
         if k % per_cycle == 0 {
-            let m = sensors.deliver(t);
+            let m = injector.filter(t, sensors.deliver(t));
             if m.is_some() {
                 last_fix = m;
             }
@@ -344,11 +421,15 @@ pub fn run<F: Firmware + ?Sized>(
                     out.steer_total_variation += d.abs();
                 }
             }
-            if out.statuses.last().map(|c| c.status) != Some(a.status) {
-                out.statuses.push(StatusChange {
-                    t_s: t,
-                    status: a.status,
-                });
+            if last.map(|p| p.status) != Some(a.status) {
+                if out.statuses.len() < MAX_STATUS_CHANGES {
+                    out.statuses.push(StatusChange {
+                        t_s: t,
+                        status: a.status,
+                    });
+                } else {
+                    out.statuses_dropped += 1;
+                }
             }
             if k < steps {
                 *out.status_time_s
@@ -422,13 +503,25 @@ pub fn run<F: Firmware + ?Sized>(
                 }
                 None => {
                     out.non_finite += 1;
+                    out.stopped_early = Some(format!(
+                        "at {t:.3} s the true point ({px:.3}, {py:.3}) m could not be projected onto the path (non-finite state, or the path's projector failed)"
+                    ));
                     break;
                 }
             };
             if !row_is_finite(&row) {
                 out.non_finite += 1;
             }
-            out.trace.push(row);
+            if record_tick % out.trace_every == 0 {
+                if out.trace.len() >= MAX_TRACE_ROWS {
+                    thin_in_place(&mut out.trace);
+                    out.trace_every *= 2;
+                }
+                if record_tick % out.trace_every == 0 {
+                    out.trace.push(row);
+                }
+            }
+            record_tick += 1;
             if let Some(p) = progress {
                 if k % (per_record * 500) == 0 {
                     p(t);
@@ -454,30 +547,37 @@ pub fn run<F: Firmware + ?Sized>(
     out
 }
 
+/// Keeps every second row (the first, third, ...).
+fn thin_in_place(trace: &mut Vec<TraceRow>) {
+    let mut i = 0;
+    trace.retain(|_| {
+        i += 1;
+        i % 2 == 1
+    });
+}
+
+/// The true state and the commands are finite (the last fix is what the
+/// receiver sent: an injected non-finite fix is not a defect of the loop).
 fn row_is_finite(r: &TraceRow) -> bool {
-    let fix_ok = [r.fix_x_m, r.fix_y_m, r.fix_age_s]
-        .iter()
-        .all(|v| v.is_none_or(f64::is_finite));
-    fix_ok
-        && [
-            r.t_s,
-            r.x_m,
-            r.y_m,
-            r.heading_rad,
-            r.steer_rad,
-            r.speed_m_s,
-            r.point_x_m,
-            r.point_y_m,
-            r.station_m,
-            r.cross_track_m,
-            r.heading_error_rad,
-            r.path_curvature_per_m,
-            r.progress_m,
-            r.cmd_curvature_per_m,
-            r.cmd_steer_rad,
-            r.speed_limit_m_s,
-            r.roll_rad,
-        ]
-        .iter()
-        .all(|v| v.is_finite())
+    [
+        r.t_s,
+        r.x_m,
+        r.y_m,
+        r.heading_rad,
+        r.steer_rad,
+        r.speed_m_s,
+        r.point_x_m,
+        r.point_y_m,
+        r.station_m,
+        r.cross_track_m,
+        r.heading_error_rad,
+        r.path_curvature_per_m,
+        r.progress_m,
+        r.cmd_curvature_per_m,
+        r.cmd_steer_rad,
+        r.speed_limit_m_s,
+        r.roll_rad,
+    ]
+    .iter()
+    .all(|v| v.is_finite())
 }

@@ -265,21 +265,25 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
         } else {
             0.0
         };
-        let c = control_point(
+        // A fix with non-finite numbers is handed on as it came (judging it
+        // is the supervisor's job); any other refusal drops the epoch.
+        let finite = [m.x, m.y, m.heading, roll].iter().all(|v| v.is_finite());
+        let (x, y) = match control_point(
             (f(m.x), f(m.y), self.arm.up()),
             f(m.heading),
             f(roll),
             &self.arm,
-        )
-        .ok()?;
+        ) {
+            Ok(c) => (c.x, c.y),
+            Err(_) if !finite => (f(m.x), f(m.y)),
+            Err(_) => return None,
+        };
         let quality = FixQuality {
             solution: m.solution,
             sigma: Some(f(m.sigma_m)),
             ..FixQuality::default()
         };
-        Some(
-            Fix::new(c.x, c.y, f(m.heading), f(m.speed), micros_of(m.time_s)).with_quality(quality),
-        )
+        Some(Fix::new(x, y, f(m.heading), f(m.speed), micros_of(m.time_s)).with_quality(quality))
     }
 }
 

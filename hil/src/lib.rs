@@ -23,6 +23,7 @@ pub mod pathcmd;
 pub mod report;
 pub mod runner;
 pub mod scenario;
+pub mod shards;
 pub mod sim;
 pub mod sweep;
 pub mod truth;

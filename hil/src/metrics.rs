@@ -22,7 +22,7 @@ use crate::firmware::SupervisorStatus;
 use crate::scenario::{Scenario, ThresholdSpec};
 
 /// Summary statistics of a set of signed errors.
-#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize, serde::Deserialize)]
 pub struct ErrorStats {
     /// Number of samples.
     pub count: usize,
@@ -43,8 +43,13 @@ pub struct ErrorStats {
 }
 
 impl ErrorStats {
-    /// Statistics of `samples` (all zero when empty).
+    /// Statistics of the finite `samples` (all zero when there are none);
+    /// non-finite samples are skipped (the run counts them in
+    /// [`Metrics::non_finite`], and its check fails on them), so that every
+    /// figure stays a number.
     pub fn of(samples: &[f64]) -> Self {
+        let finite: Vec<f64> = samples.iter().copied().filter(|v| v.is_finite()).collect();
+        let samples = finite.as_slice();
         let n = samples.len();
         if n == 0 {
             return Self::default();
@@ -86,7 +91,7 @@ pub fn percentile_sorted(sorted: &[f64], q: f64) -> f64 {
 }
 
 /// One histogram bin of the straight-pass cross-track error.
-#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Bin {
     /// Lower edge, metres.
     pub from_m: f64,
@@ -97,7 +102,7 @@ pub struct Bin {
 }
 
 /// All figures of one run.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Metrics {
     /// Cross-track error on straight passes (past the entry skip), metres.
     pub straight: ErrorStats,
@@ -227,7 +232,7 @@ fn settle_distance(trace: &[TraceRow], band: f64, hold: f64) -> Option<f64> {
 }
 
 /// One pass/fail line.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Check {
     /// What is checked.
     pub name: String,
@@ -237,6 +242,12 @@ pub struct Check {
     pub limit: String,
     /// `true` when met.
     pub pass: bool,
+    /// The measured number, when the check has one (for `result.json`).
+    pub value: Option<f64>,
+    /// The limit's number, when it has one.
+    pub threshold: Option<f64>,
+    /// Unit of both (`m`, `deg`, `s`, empty for a ratio or count).
+    pub unit: String,
 }
 
 /// Checks the metrics and status log against the thresholds.
@@ -249,6 +260,9 @@ pub fn check(t: &ThresholdSpec, m: &Metrics, run: &RunOutput) -> Vec<Check> {
                 measured: format!("{v:.4} {unit}"),
                 limit: format!("<= {lim} {unit}"),
                 pass: v <= lim,
+                value: Some(v),
+                threshold: Some(lim),
+                unit: unit.into(),
             });
         }
     };
@@ -297,6 +311,9 @@ pub fn check(t: &ThresholdSpec, m: &Metrics, run: &RunOutput) -> Vec<Check> {
                 .map_or("never".into(), |d| format!("{d:.2} m")),
             limit: format!("<= {lim} m"),
             pass: m.settle_distance_m.is_some_and(|d| d <= lim),
+            value: m.settle_distance_m,
+            threshold: Some(lim),
+            unit: "m".into(),
         });
     }
     if let Some(lim) = t.min_completion {
@@ -305,6 +322,9 @@ pub fn check(t: &ThresholdSpec, m: &Metrics, run: &RunOutput) -> Vec<Check> {
             measured: format!("{:.3}", m.completion),
             limit: format!(">= {lim}"),
             pass: m.completion >= lim,
+            value: Some(m.completion),
+            threshold: Some(lim),
+            unit: String::new(),
         });
     }
     out.push(Check {
@@ -312,6 +332,9 @@ pub fn check(t: &ThresholdSpec, m: &Metrics, run: &RunOutput) -> Vec<Check> {
         measured: m.non_finite.to_string(),
         limit: "= 0".into(),
         pass: m.non_finite == 0,
+        value: Some(m.non_finite as f64),
+        threshold: Some(0.0),
+        unit: String::new(),
     });
     for e in &t.expect_status {
         let seen = status_seen(run, &e.status, e.from_s, e.until_s);
@@ -320,6 +343,9 @@ pub fn check(t: &ThresholdSpec, m: &Metrics, run: &RunOutput) -> Vec<Check> {
             measured: if seen { "yes".into() } else { "no".into() },
             limit: format!("within [{}, {}] s", e.from_s, e.until_s),
             pass: seen,
+            value: None,
+            threshold: None,
+            unit: "s".into(),
         });
     }
     for s in &t.forbid_status {
@@ -333,6 +359,9 @@ pub fn check(t: &ThresholdSpec, m: &Metrics, run: &RunOutput) -> Vec<Check> {
             },
             limit: "never".into(),
             pass: !seen,
+            value: None,
+            threshold: None,
+            unit: String::new(),
         });
     }
     out

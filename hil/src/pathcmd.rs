@@ -13,14 +13,18 @@
 //!
 //! * `--mode corners` (default): lines joined by clothoid-arc-clothoid
 //!   corners of radius `--radius` (default 6 m) and clothoid sharpness
-//!   `--max-sharpness` (1/m^2; plain arcs if none is given or derived);
+//!   `--max-sharpness` (1/m^2; default `1 / radius^2`, a clothoid as long
+//!   as the radius on each side of the arc, so the curvature is continuous);
 //! * `--mode spline`: a G1 clothoid spline through the waypoints, at the
 //!   headings of the `heading_deg` column or estimated by the Bessel
-//!   (three-point) rule;
+//!   (three-point) rule; its curvature steps at the waypoints;
 //! * limits for the feasibility check: maximum curvature `--max-curvature`
 //!   (default `1 / radius`), maximum sharpness `--max-sharpness`, or the
 //!   curvature rate `--max-curvature-rate` (1/m/s) divided by `--speed`
-//!   (m/s); curvature jumps above 1e-6 1/m are reported;
+//!   (m/s); curvature steps larger than `--max-curvature-jump` (1/m) are
+//!   reported, by default 1e-6 1/m when a sharpness limit applies (a
+//!   machine that steers at a finite rate cannot follow a step) and not
+//!   checked otherwise;
 //! * `--strict` makes a limit violation an error (the files are still written).
 //!
 //! Input formats: see [`input`]. Outputs: the Rust file of
@@ -31,6 +35,7 @@
 //! extension `.kpath`. Both are read back before the command succeeds: the
 //! Rust table through the core's anchor check in `f32`, the blob through
 //! the core's decoder in `f64` (re-encoding to the same bytes) and in `f32`.
+//! The SVG preview: [`preview::svg`].
 //!
 //! Caution: a generated path is not a safety function. Check it in the
 //! preview and on the machine at low speed, with an independent emergency
@@ -38,6 +43,7 @@
 
 pub mod input;
 pub mod output;
+pub mod preview;
 
 use std::path::PathBuf;
 
@@ -45,7 +51,8 @@ use anyhow::{anyhow, bail, Context, Result};
 use kappaline::io::blob::{decode, encode, encoded_len, EncodeOptions, Origin};
 use kappaline::{
     check_path, clothoid_spline, corner_path, AnchoredSegment, Continuity, Corner, CornerConfig,
-    CornerError, FeasibilityReport, FitError, Path, PathLimits, Pose, Segment, Waypoint,
+    CornerError, FeasibilityReport, FitError, Path, PathLimits, Pose, Segment, ViolationKind,
+    Waypoint,
 };
 
 /// Most segments a built path may have.
@@ -87,9 +94,14 @@ pub struct Options {
     /// Corner radius, metres.
     #[arg(long, default_value_t = 6.0, value_parser = positive, allow_negative_numbers = true)]
     pub radius: f64,
-    /// Clothoid sharpness for corners and limit for the check, 1/m^2.
+    /// Clothoid sharpness for corners and limit for the check, 1/m^2
+    /// (corners: default 1 / radius^2; spline: default none).
     #[arg(long = "max-sharpness", value_parser = positive, allow_negative_numbers = true)]
     pub max_sharpness: Option<f64>,
+    /// Largest curvature step tolerated at a joint, 1/m (default 1e-6 when
+    /// a sharpness limit applies, else not checked).
+    #[arg(long = "max-curvature-jump", value_parser = non_negative, allow_negative_numbers = true)]
+    pub max_curvature_jump: Option<f64>,
     /// Curvature limit for the check, 1/m (default `1 / radius`).
     #[arg(long = "max-curvature", value_parser = positive, allow_negative_numbers = true)]
     pub max_curvature: Option<f64>,
@@ -138,6 +150,17 @@ fn positive(v: &str) -> std::result::Result<f64, String> {
     }
 }
 
+fn non_negative(v: &str) -> std::result::Result<f64, String> {
+    let x: f64 = v
+        .parse()
+        .map_err(|_| format!("cannot read {v:?} as a number"))?;
+    if x.is_finite() && x >= 0.0 {
+        Ok(x)
+    } else {
+        Err(format!("{v} must be zero or positive and finite"))
+    }
+}
+
 fn identifier(n: &str) -> std::result::Result<String, String> {
     let ok = n.chars().next().is_some_and(|c| c.is_ascii_alphabetic())
         && n.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
@@ -175,15 +198,61 @@ pub struct Built {
     pub limits: PathLimits<f64>,
 }
 
-/// The limits the options describe.
+/// Curvature-step tolerance when a sharpness limit applies, 1/m.
+pub const JUMP_TOLERANCE: f64 = 1e-6;
+
+/// The limits the options describe: the sharpness limit given (or, in
+/// corner mode, the corners' default `1 / radius^2`), and curvature steps
+/// checked only when a sharpness limit applies or a tolerance is given.
 pub fn limits(o: &Options) -> Result<PathLimits<f64>> {
-    let sharp = match (o.max_sharpness, o.max_curvature_rate, o.speed) {
+    let given = match (o.max_sharpness, o.max_curvature_rate, o.speed) {
         (Some(s), _, _) => Some(s),
         (None, Some(r), Some(v)) => Some(r / v),
         _ => None,
     };
-    PathLimits::new(o.max_curvature.unwrap_or(1.0 / o.radius), sharp, 1e-6)
+    let sharp = match o.mode {
+        Mode::Corners => given.or(Some(1.0 / (o.radius * o.radius))),
+        Mode::Spline => given,
+    };
+    let jump = o.max_curvature_jump.unwrap_or(if sharp.is_some() {
+        JUMP_TOLERANCE
+    } else {
+        f64::MAX
+    });
+    PathLimits::new(o.max_curvature.unwrap_or(1.0 / o.radius), sharp, jump)
         .map_err(|e| anyhow!("vehicle limits: {e}"))
+}
+
+/// One violation in words: what is broken, where, by how much, and what
+/// to change.
+pub fn explain(v: &kappaline::Violation<f64>, mode: Mode) -> String {
+    match v.kind {
+        ViolationKind::Curvature => format!(
+            "too tight at station {:.1} m (segment {}): curvature {:.4} 1/m is a radius of {:.2} m, tighter than the vehicle's {:.2} m (limit {:.4} 1/m); raise --radius{}, or move the waypoints apart",
+            v.station,
+            v.segment,
+            v.value,
+            1.0 / v.value,
+            1.0 / v.limit,
+            v.limit,
+            if mode == Mode::Spline { " (it sets the curvature limit)" } else { "" }
+        ),
+        ViolationKind::Sharpness => format!(
+            "curvature changes too fast at station {:.1} m (segment {}): {:.4} 1/m^2 against a limit of {:.4} 1/m^2 (at the planned speed the steering could not keep up); lower the speed, or let the corners use a gentler --max-sharpness",
+            v.station, v.segment, v.value, v.limit
+        ),
+        ViolationKind::CurvatureJump => format!(
+            "curvature steps by {:.4} 1/m at station {:.1} m (segment {}): a machine that steers at a finite rate cannot follow a step (tolerance {:.1e} 1/m); {}",
+            v.value,
+            v.station,
+            v.segment,
+            v.limit,
+            match mode {
+                Mode::Corners => "corners with clothoids (--max-sharpness) have none",
+                Mode::Spline => "a G1 spline steps at its waypoints: use --mode corners for continuous curvature, or tolerate the steps with --max-curvature-jump",
+            }
+        ),
+    }
 }
 
 /// Reads the waypoints and builds and checks the path (no files written).
@@ -314,11 +383,14 @@ pub fn run(args: &[String]) -> Result<()> {
         Mode::Corners => format!(
             "corners, radius {} m, sharpness {}",
             o.radius,
-            b.limits
-                .max_sharpness
-                .map_or("unlimited (plain arcs)".to_string(), |s| format!(
-                    "{s} 1/m^2"
-                ))
+            match (
+                b.limits.max_sharpness,
+                o.max_sharpness.is_some() || o.max_curvature_rate.is_some()
+            ) {
+                (Some(s), true) => format!("{s:.4} 1/m^2"),
+                (Some(s), false) => format!("{s:.4} 1/m^2 (default 1 / radius^2)"),
+                (None, _) => "unlimited (plain arcs)".to_string(),
+            }
         ),
         Mode::Spline => "G1 clothoid spline".to_string(),
     };
@@ -348,7 +420,7 @@ pub fn run(args: &[String]) -> Result<()> {
     std::fs::write(&blob_path, &blob_bytes)
         .with_context(|| format!("cannot write {}", blob_path.display()))?;
     if let Some(svg) = &o.out_svg {
-        std::fs::write(svg, output::svg(&d))
+        std::fs::write(svg, preview::svg(&d))
             .with_context(|| format!("cannot write {}", svg.display()))?;
     }
     println!(
@@ -377,11 +449,17 @@ pub fn run(args: &[String]) -> Result<()> {
     } else {
         println!("  {} limit violation(s):", b.report.total);
         for v in b.report.violations.iter() {
-            println!(
-                "    {:?} at station {:.3} m: {:.6} > {:.6}",
-                v.kind, v.station, v.value, v.limit
-            );
+            println!("    {}", explain(v, o.mode));
         }
+        let more = b.report.total.saturating_sub(b.report.violations.len());
+        if more > 0 {
+            println!("    ... and {more} more");
+        }
+    }
+    if b.limits.max_curvature_jump >= f64::MAX {
+        println!(
+            "  curvature steps not checked (no sharpness limit given: --max-sharpness, or --max-curvature-rate with --speed)"
+        );
     }
     println!(
         "  wrote {} (fn {}()), {} ({} bytes){}",

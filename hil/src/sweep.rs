@@ -5,8 +5,12 @@
 use std::fmt::Write as _;
 use std::ops::Range;
 use std::path::Path as FsPath;
+use std::sync::Arc;
 
 use rayon::prelude::*;
+
+pub use crate::report::sweep_report::write_report;
+pub use crate::shards::{merge, write_shard, Stored};
 
 use crate::closed_loop::RunOptions;
 use crate::metrics::{percentile_sorted, Metrics};
@@ -14,7 +18,7 @@ use crate::scenario::{overrides, source_text, Scenario};
 use crate::{firmware::SupervisorStatus, runner};
 
 /// One swept parameter: a dotted scenario key and its values.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Param {
     /// Dotted key, e.g. `gnss.noise_m`.
     pub key: String,
@@ -22,20 +26,56 @@ pub struct Param {
     pub values: Vec<toml::Value>,
 }
 
+/// Most values one `--param` may take.
+pub const MAX_PARAM_VALUES: usize = 10_000;
+/// Most parameter combinations of a sweep.
+pub const MAX_COMBINATIONS: usize = 100_000;
+/// Most runs one process does (after `--shard`): their results stay in
+/// memory until the summary is written. Split a larger sweep into shards.
+pub const MAX_RUNS_PER_PROCESS: u64 = 200_000;
+
+const PARAM_HINT: &str = "expected KEY=LO:HI:N (N evenly spaced values from LO to HI, e.g. gnss.noise_m=0.01:0.05:5) or KEY=A,B,C (a list, e.g. controller.precision=f32,f64)";
+
 /// Parses `KEY=LO:HI:N` (N evenly spaced floats) or `KEY=A,B,C`.
 ///
 /// # Errors
-/// A message for a malformed range.
+/// A message with the expected format for a malformed range, and for
+/// more than [`MAX_PARAM_VALUES`] values.
 pub fn parse_param(s: &str) -> anyhow::Result<Param> {
-    let (key, spec) = s
-        .split_once('=')
-        .ok_or_else(|| anyhow::anyhow!("--param `{s}`: expected KEY=LO:HI:N or KEY=A,B,C"))?;
+    let bad = |why: String| anyhow::anyhow!("--param `{s}`: {why}; {PARAM_HINT}");
+    let (key, spec) = s.split_once('=').ok_or_else(|| bad("no `=`".into()))?;
+    let key = key.trim();
+    if key.is_empty() {
+        return Err(bad("empty KEY".into()));
+    }
+    if spec.trim().is_empty() {
+        return Err(bad("no values".into()));
+    }
     let parts: Vec<&str> = spec.split(':').collect();
-    let values = if parts.len() == 3 {
-        let lo: f64 = parts[0].trim().parse()?;
-        let hi: f64 = parts[1].trim().parse()?;
-        let n: usize = parts[2].trim().parse()?;
-        anyhow::ensure!(n >= 1, "--param `{s}`: N must be >= 1");
+    let values = if parts.len() > 1 {
+        let [lo, hi, n] = parts.as_slice() else {
+            return Err(bad(format!(
+                "a range has three parts LO:HI:N, got {}",
+                parts.len()
+            )));
+        };
+        let num = |what: &str, v: &str| -> anyhow::Result<f64> {
+            match v.trim().parse::<f64>() {
+                Ok(x) if x.is_finite() => Ok(x),
+                _ => Err(bad(format!("{what} `{v}` is not a finite number"))),
+            }
+        };
+        let lo = num("LO", lo)?;
+        let hi = num("HI", hi)?;
+        let n: usize = n
+            .trim()
+            .parse()
+            .map_err(|_| bad(format!("N `{n}` is not a whole number")))?;
+        if !(1..=MAX_PARAM_VALUES).contains(&n) {
+            return Err(bad(format!(
+                "N must lie in [1, {MAX_PARAM_VALUES}], got {n}"
+            )));
+        }
         (0..n)
             .map(|i| {
                 let t = if n == 1 {
@@ -47,12 +87,20 @@ pub fn parse_param(s: &str) -> anyhow::Result<Param> {
             })
             .collect()
     } else {
-        spec.split(',')
-            .map(|v| overrides::literal(v.trim()))
-            .collect()
+        let items: Vec<&str> = spec.split(',').collect();
+        if items.len() > MAX_PARAM_VALUES {
+            return Err(bad(format!(
+                "at most {MAX_PARAM_VALUES} values, got {}",
+                items.len()
+            )));
+        }
+        if items.iter().any(|v| v.trim().is_empty()) {
+            return Err(bad("an empty value in the list".into()));
+        }
+        items.iter().map(|v| overrides::literal(v.trim())).collect()
     };
     Ok(Param {
-        key: key.trim().to_string(),
+        key: key.to_string(),
         values,
     })
 }
@@ -76,76 +124,166 @@ pub struct Plan {
 #[derive(Debug, Clone)]
 pub struct Job {
     /// Values of [`Plan::params`], in order.
-    pub values: Vec<toml::Value>,
+    pub values: Arc<Vec<toml::Value>>,
     /// Seed.
     pub seed: u64,
-    /// The checked scenario.
-    pub scenario: Scenario,
+    /// The checked scenario of the combination (its seed is set at run time).
+    pub scenario: Arc<Scenario>,
 }
 
 /// The figures of one run.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct RunResult {
     /// Parameter values.
     pub values: Vec<toml::Value>,
     /// Seed.
     pub seed: u64,
-    /// Figures.
+    /// Figures (without the histogram, to keep a large sweep small).
     pub metrics: Metrics,
     /// Every check passed.
     pub pass: bool,
 }
 
-impl Plan {
-    /// Every job of the plan, each scenario checked.
+/// The `K`-th of `N` disjoint slices of a sweep (`K` in `1..=N`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+pub struct Shard {
+    /// Which slice, from 1.
+    pub index: u64,
+    /// How many slices.
+    pub count: u64,
+}
+
+impl Shard {
+    /// The whole sweep.
+    pub const WHOLE: Shard = Shard { index: 1, count: 1 };
+
+    /// Parses `K/N`.
     ///
     /// # Errors
-    /// Unknown source or a combination that does not check (the error names
-    /// the field and the values).
-    pub fn jobs(&self) -> anyhow::Result<Vec<Job>> {
+    /// A message naming `--shard` unless `1 <= K <= N <= 100000`.
+    pub fn parse(s: &str) -> Result<Self, String> {
+        let hint = "expected K/N with 1 <= K <= N <= 100000, e.g. --shard 3/8";
+        let (k, n) = s.split_once('/').ok_or_else(|| format!("`{s}`: {hint}"))?;
+        let k: u64 = k.trim().parse().map_err(|_| format!("`{s}`: {hint}"))?;
+        let n: u64 = n.trim().parse().map_err(|_| format!("`{s}`: {hint}"))?;
+        if k >= 1 && k <= n && n <= 100_000 {
+            Ok(Self { index: k, count: n })
+        } else {
+            Err(format!("`{s}`: {hint}"))
+        }
+    }
+
+    /// The half-open range of flat run indices of this slice of `total`
+    /// runs: contiguous, so that the shards in order are the whole sweep.
+    pub fn range(&self, total: u64) -> Range<u64> {
+        let at = |k: u64| ((u128::from(total) * u128::from(k)) / u128::from(self.count)) as u64;
+        at(self.index - 1)..at(self.index)
+    }
+}
+
+impl Plan {
+    /// Number of runs: combinations times seeds.
+    pub fn total_runs(&self) -> u64 {
+        let combos = self
+            .params
+            .iter()
+            .fold(1u64, |a, p| a.saturating_mul(p.values.len() as u64));
+        combos.saturating_mul(self.seeds.end.saturating_sub(self.seeds.start))
+    }
+
+    /// The scenario value with the base overrides applied, and its source name.
+    ///
+    /// # Errors
+    /// Unknown source, bad TOML or a bad override.
+    pub fn base_value(&self) -> anyhow::Result<(toml::Value, String)> {
         let (text, source) = source_text(&self.source)?;
         let mut base: toml::Value =
             toml::from_str(&text).map_err(|e| anyhow::anyhow!("{source}: {}", e.message()))?;
         for (k, v) in &self.base {
-            overrides::set(&mut base, k, v.clone()).map_err(anyhow::Error::msg)?;
+            overrides::apply(&mut base, k, v.clone()).map_err(|e| anyhow::anyhow!("--set {e}"))?;
         }
-        let mut combos: Vec<Vec<toml::Value>> = vec![Vec::new()];
-        for p in &self.params {
-            combos = combos
-                .into_iter()
-                .flat_map(|c| {
-                    p.values.iter().map(move |v| {
-                        let mut c = c.clone();
-                        c.push(v.clone());
-                        c
-                    })
-                })
-                .collect();
-        }
-        let mut jobs = Vec::new();
-        for combo in combos {
-            let mut value = base.clone();
-            for (p, v) in self.params.iter().zip(&combo) {
-                overrides::set(&mut value, &p.key, v.clone()).map_err(anyhow::Error::msg)?;
+        Ok((base, source))
+    }
+
+    /// Every job of the plan, each combination checked.
+    ///
+    /// # Errors
+    /// As [`Plan::shard_jobs`].
+    pub fn jobs(&self) -> anyhow::Result<Vec<Job>> {
+        self.shard_jobs(Shard::WHOLE)
+    }
+
+    /// The jobs of one shard, in the order of the whole sweep (combination
+    /// by combination, seeds in order within each).
+    ///
+    /// # Errors
+    /// Unknown source, too many combinations or runs (the message names
+    /// the option), or a combination that does not check (the error names
+    /// the field and the values).
+    pub fn shard_jobs(&self, shard: Shard) -> anyhow::Result<Vec<Job>> {
+        let combos = self
+            .params
+            .iter()
+            .fold(1usize, |a, p| a.saturating_mul(p.values.len()));
+        anyhow::ensure!(
+            combos <= MAX_COMBINATIONS,
+            "--param: {combos} combinations, more than {MAX_COMBINATIONS}; sweep fewer values"
+        );
+        anyhow::ensure!(!self.seeds.is_empty(), "--seeds: must be at least 1");
+        let per = self.seeds.end - self.seeds.start;
+        let total = self.total_runs();
+        let range = shard.range(total);
+        let mine = range.end - range.start;
+        anyhow::ensure!(
+            mine <= MAX_RUNS_PER_PROCESS,
+            "--seeds/--param: {mine} runs in one process, more than {MAX_RUNS_PER_PROCESS}; split the sweep with --shard K/N (at least {} shards)",
+            total.div_ceil(MAX_RUNS_PER_PROCESS)
+        );
+        let (base, source) = self.base_value()?;
+        let mut jobs = Vec::with_capacity(mine as usize);
+        let mut checked: Option<(u64, Arc<Vec<toml::Value>>, Arc<Scenario>)> = None;
+        for i in range {
+            let c = i / per;
+            if checked.as_ref().is_none_or(|(k, _, _)| *k != c) {
+                let combo = Arc::new(self.combination(c as usize));
+                let mut value = base.clone();
+                for (p, v) in self.params.iter().zip(combo.iter()) {
+                    overrides::apply(&mut value, &p.key, v.clone())
+                        .map_err(|e| anyhow::anyhow!("--param {e}"))?;
+                }
+                let s = Scenario::from_value(value, &source).map_err(|e| {
+                    anyhow::anyhow!("{e} (with {})", describe(&self.params, &combo))
+                })?;
+                checked = Some((c, combo, Arc::new(s)));
             }
-            // Check each combination once; seeds only change the seed.
-            let checked = Scenario::from_value(value.clone(), &source)
-                .map_err(|e| anyhow::anyhow!("{e} (with {})", describe(&self.params, &combo)))?;
-            for seed in self.seeds.clone() {
-                let mut s = checked.clone();
-                s.spec.seed = seed;
+            if let Some((_, values, scenario)) = &checked {
                 jobs.push(Job {
-                    values: combo.clone(),
-                    seed,
-                    scenario: s,
+                    values: values.clone(),
+                    seed: self.seeds.start + i % per,
+                    scenario: scenario.clone(),
                 });
             }
         }
         Ok(jobs)
     }
+
+    /// The `c`-th combination of parameter values (the last parameter
+    /// varies fastest).
+    fn combination(&self, mut c: usize) -> Vec<toml::Value> {
+        let mut out = vec![toml::Value::Boolean(false); self.params.len()];
+        for (slot, p) in out.iter_mut().zip(&self.params).rev() {
+            let n = p.values.len().max(1);
+            if let Some(v) = p.values.get(c % n) {
+                *slot = v.clone();
+            }
+            c /= n;
+        }
+        out
+    }
 }
 
-fn describe(params: &[Param], values: &[toml::Value]) -> String {
+/// `key=value` for each parameter.
+pub fn describe(params: &[Param], values: &[toml::Value]) -> String {
     params
         .iter()
         .zip(values)
@@ -164,13 +302,18 @@ pub fn run(plan: &Plan, jobs: &[Job], tick: &(dyn Fn() + Sync)) -> anyhow::Resul
     };
     jobs.par_iter()
         .map(|j| {
-            let out = runner::run(&j.scenario, opts, None)?;
+            let mut s = (*j.scenario).clone();
+            s.spec.seed = j.seed;
+            let out = runner::run(&s, opts, None)?;
             tick();
+            let pass = out.pass();
+            let mut metrics = out.metrics;
+            metrics.straight_histogram = Vec::new();
             Ok(RunResult {
-                values: j.values.clone(),
+                values: (*j.values).clone(),
                 seed: j.seed,
-                pass: out.pass(),
-                metrics: out.metrics,
+                pass,
+                metrics,
             })
         })
         .collect()

@@ -58,7 +58,7 @@ fn the_committed_orchard_files_are_what_build_path_writes() {
 
 #[test]
 fn the_generated_fn_and_the_blob_give_the_same_path() {
-    let from_fn: Path<f32, 9> = orchard::load_orchard().unwrap();
+    let from_fn: Path<f32, 15> = orchard::load_orchard().unwrap();
     assert_eq!(from_fn.len(), orchard::ORCHARD_SEGMENTS.len());
     assert!((f64::from(from_fn.length()) - orchard::ORCHARD_LENGTH).abs() < 1e-3);
     let bytes = std::fs::read(
@@ -66,7 +66,7 @@ fn the_generated_fn_and_the_blob_give_the_same_path() {
             .join("tests/pathcmd_generated/orchard_path.kpath"),
     )
     .unwrap();
-    let (from_blob, info): (Path<f32, 9>, _) = decode(&bytes).unwrap();
+    let (from_blob, info): (Path<f32, 15>, _) = decode(&bytes).unwrap();
     assert!(info.origin.is_none() && orchard::ORCHARD_ORIGIN.is_none());
     assert!(!info.closed && !info.cusps && !orchard::ORCHARD_CLOSED);
     for i in 0..from_fn.len() {

@@ -105,7 +105,10 @@ fn local_csv_corners_and_spline() {
         assert!(t.len() >= 5);
         check_ends(&t, (0.0, 0.0), (-10.0, 80.0));
         assert!(rs.contains("PATH_ORIGIN: Option<(f64, f64, f64)> = None"));
-        assert!(svg.starts_with("<svg") && svg.contains("<polyline"));
+        assert!(svg.starts_with("<svg") && svg.contains("<path d=\"M"));
+        for part in ["east [m]", "north [m]", "scale-bar", "start", "waypoints"] {
+            assert!(svg.contains(part), "preview without {part}");
+        }
     }
 }
 
@@ -154,5 +157,73 @@ fn violations_are_listed_in_the_file() {
     );
     assert!(rs.contains("violation(s) of the vehicle limits"), "{rs}");
     assert!(rs.contains("Curvature at station"));
-    assert!(svg.contains("curvature at station"));
+    assert!(svg.contains("limit violation: curvature"), "{svg}");
+}
+
+/// Every sample file, in both modes, with default options: the path
+/// passes its own feasibility check (the defaults used to report 6-8
+/// curvature steps on each, and the spline of `pond_loop.geojson` failed).
+#[test]
+fn default_options_are_feasible_on_every_sample() {
+    let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("data");
+    let mut n = 0;
+    for entry in std::fs::read_dir(dir).unwrap() {
+        let name = entry.unwrap().file_name().to_string_lossy().to_string();
+        for mode in ["corners", "spline"] {
+            let out = out_dir(&format!("default-{name}-{mode}"));
+            let args: Vec<String> = [
+                "--input",
+                &data(&name),
+                "--mode",
+                mode,
+                "--out-rs",
+                &out.join("p.rs").display().to_string(),
+            ]
+            .iter()
+            .map(|s| s.to_string())
+            .collect();
+            let o = kappaline_hil::pathcmd::parse_args(&args).unwrap();
+            let b = kappaline_hil::pathcmd::build(&o).unwrap();
+            assert!(
+                b.report.is_feasible(),
+                "{name} {mode}: {} violation(s), first {:?}",
+                b.report.total,
+                b.report.violations.iter().next()
+            );
+            // --strict agrees.
+            let mut strict = args.clone();
+            strict.push("--strict".into());
+            kappaline_hil::pathcmd::run(&strict).unwrap();
+            let _ = std::fs::remove_dir_all(&out);
+            n += 1;
+        }
+    }
+    assert_eq!(n, 6, "three sample files, two modes");
+}
+
+/// A violation is explained in words: what, where, and what to change.
+#[test]
+fn violations_are_explained_in_words() {
+    let args: Vec<String> = [
+        "--input",
+        &data("orchard_rows.csv"),
+        "--out-rs",
+        "/dev/null",
+        "--radius",
+        "4",
+        "--max-curvature",
+        "0.1",
+    ]
+    .iter()
+    .map(|s| s.to_string())
+    .collect();
+    let o = kappaline_hil::pathcmd::parse_args(&args).unwrap();
+    let b = kappaline_hil::pathcmd::build(&o).unwrap();
+    let v = b.report.violations.iter().next().expect("a violation");
+    let text = kappaline_hil::pathcmd::explain(v, o.mode);
+    assert!(
+        text.contains("too tight") && text.contains("radius"),
+        "{text}"
+    );
+    assert!(text.contains("--radius"), "{text}");
 }

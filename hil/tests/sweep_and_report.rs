@@ -96,32 +96,87 @@ fn tempdir(tag: &str) -> std::path::PathBuf {
     d
 }
 
+/// The report of every built-in scenario carries every plot (each SVG
+/// exists, is not empty, draws something and names both axes), the checks
+/// table once, `result.json` with every check's numbers, and the resolved
+/// scenario.
 #[test]
-fn report_writes_csv_svg_and_html() {
-    let s = load("warehouse", &[]).unwrap();
-    let o = runner::run(
-        &s,
-        RunOptions {
-            duration_s: Some(30.0),
-        },
-        None,
-    )
-    .unwrap();
-    let dir = tempdir("report");
-    let out = report::write_all(&dir, &s, &o.metrics, &o.checks, &o.run).unwrap();
-    let csv = std::fs::read_to_string(out.join("trace.csv")).unwrap();
-    assert_eq!(csv.lines().count(), o.run.trace.len() + 1);
-    assert!(csv.lines().next().unwrap().contains("cross_track_m"));
-    for svg in ["path.svg", "cross_track.svg"] {
-        let text = std::fs::read_to_string(out.join(svg)).unwrap();
+fn report_of_each_builtin_has_every_plot_result_json_and_scenario() {
+    for b in kappaline_hil::scenario::builtin::BUILTINS {
+        let s = load(b.name, &[]).unwrap();
+        let o = runner::run(
+            &s,
+            RunOptions {
+                duration_s: Some(30.0),
+            },
+            None,
+        )
+        .unwrap();
+        let dir = tempdir(&format!("report-{}", b.name));
+        let out = report::write_all(&dir, &s, &o.metrics, &o.checks, &o.run).unwrap();
+        for f in report::FILES {
+            let len = std::fs::metadata(out.join(f)).map_or(0, |m| m.len());
+            assert!(len > 0, "{}: {f} missing or empty", b.name);
+        }
+        let csv = std::fs::read_to_string(out.join("trace.csv")).unwrap();
+        assert_eq!(csv.lines().count(), o.run.trace.len() + 1);
+        assert!(csv.lines().next().unwrap().contains("cross_track_m"));
+        let svgs: Vec<&str> = report::FILES
+            .iter()
+            .copied()
+            .filter(|f| f.ends_with(".svg"))
+            .collect();
+        assert_eq!(svgs.len(), 8);
+        for svg in &svgs {
+            let text = std::fs::read_to_string(out.join(svg)).unwrap();
+            assert!(text.starts_with("<svg"), "{svg}");
+            assert!(
+                text.contains("<path d=\"M") || text.contains("<rect x="),
+                "{}: {svg} draws nothing",
+                b.name
+            );
+            for axis in ["class=\"x-axis\"", "class=\"y-axis\""] {
+                let at = text
+                    .find(axis)
+                    .unwrap_or_else(|| panic!("{svg}: no {axis}"));
+                let name = text[at..].split('>').nth(1).unwrap_or("");
+                assert!(
+                    name.len() > 5 && !name.starts_with('<'),
+                    "{svg}: unnamed axis"
+                );
+            }
+        }
+        let html = std::fs::read_to_string(out.join("report.html")).unwrap();
+        assert_eq!(html.matches("<svg").count(), 8, "every plot embedded");
+        assert_eq!(html.matches("<h2>Checks</h2>").count(), 1);
+        assert_eq!(
+            html.matches("non-finite values").count(),
+            1,
+            "the checks are listed once"
+        );
         assert!(
-            text.starts_with("<svg") && text.contains("<path d=\"M"),
-            "{svg}"
+            html.contains("kappaline-hil "),
+            "tool version in the report"
+        );
+        assert!(html.contains("Resolved scenario"));
+        let json: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(out.join("result.json")).unwrap())
+                .unwrap();
+        assert_eq!(json["seed"].as_u64(), Some(s.spec.seed));
+        assert_eq!(json["pass"].as_bool(), Some(o.pass()));
+        assert!(json["tool"].as_str().unwrap().starts_with("kappaline-hil "));
+        let checks = json["checks"].as_array().unwrap();
+        assert_eq!(checks.len(), o.checks.len());
+        assert!(checks.iter().all(|c| c["pass"].is_boolean()));
+        assert!(json["metrics"]["straight"]["rms"].is_number());
+        let again = std::fs::read_to_string(out.join("scenario.toml")).unwrap();
+        let back = kappaline_hil::scenario::Scenario::parse(&again, "scenario.toml").unwrap();
+        assert_eq!(
+            back.spec, s.spec,
+            "{}: the resolved scenario reloads",
+            b.name
         );
     }
-    let html = std::fs::read_to_string(out.join("report.html")).unwrap();
-    assert_eq!(html.matches("<svg").count(), 2, "both plots embedded");
-    assert!(html.contains("straight passes"));
 }
 
 fn hil() -> Command {
@@ -180,4 +235,52 @@ fn command_line_exit_codes() {
     for name in ["field", "warehouse", "highspeed"] {
         assert!(text.contains(name), "{text}");
     }
+}
+
+/// `check` and `bench` take `--set`; `list` says where scenario files live;
+/// a malformed `--param` gets the format; `--help` states what `--out` is
+/// relative to.
+#[test]
+fn verbs_take_set_and_explain_themselves() {
+    let out = |args: &[&str]| {
+        let o = hil().args(args).output().unwrap();
+        (
+            o.status.code(),
+            String::from_utf8_lossy(&o.stdout).to_string(),
+            String::from_utf8_lossy(&o.stderr).to_string(),
+        )
+    };
+    let (code, _, err) = out(&["check", "field", "--set", "gnss.latency_s=0.5"]);
+    assert_eq!(code, Some(2));
+    assert!(err.contains("gnss.latency_s"), "{err}");
+    let (code, text, _) = out(&["check", "field", "--set", "gnss.noise_m=0.05"]);
+    assert_eq!(code, Some(0), "{text}");
+    let (code, text, err) = out(&[
+        "bench",
+        "warehouse",
+        "--runs",
+        "2",
+        "--duration",
+        "2",
+        "--set",
+        "controller.precision=\"f64\"",
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(text.contains("simulated s per wall s"), "{text}");
+    let (_, text, _) = out(&["list"]);
+    assert!(
+        text.contains("hil/scenarios/") && text.contains("init"),
+        "{text}"
+    );
+    let (code, _, err) = out(&["sweep", "-q", "--param", "gnss.noise_m=0.01:0.02"]);
+    assert_eq!(code, Some(2));
+    assert!(
+        err.contains("KEY=LO:HI:N") && err.contains("KEY=A,B,C"),
+        "{err}"
+    );
+    let (_, text, _) = out(&["run", "--help"]);
+    assert!(
+        text.contains("current directory") && text.contains("repository root"),
+        "{text}"
+    );
 }

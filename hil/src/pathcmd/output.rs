@@ -1,9 +1,10 @@
 //! Outputs of `build-path`: a Rust source file for firmware (the segment
-//! table and a ready loader `fn`), the path blob and an SVG preview.
+//! table and a ready loader `fn`) and the path blob (the SVG preview is in
+//! [`super::preview`]).
 
 use std::fmt::Write as _;
 
-use kappaline::{Corner, Direction, FeasibilityReport, Path, ViolationKind};
+use kappaline::{Corner, Direction, FeasibilityReport, Path};
 
 /// What the outputs describe.
 pub struct Described<'a, const N: usize, const M: usize> {
@@ -188,113 +189,4 @@ pub fn rust_const<const N: usize, const M: usize>(d: &Described<'_, N, M>) -> St
     let _ = writeln!(s, "    b.finish({name}_CLOSED)");
     let _ = writeln!(s, "}}");
     s
-}
-
-/// An SVG preview: the path (blue), the waypoint polyline (grey, dashed),
-/// waypoints (dots), corner apexes (green) and violations (red rings).
-/// North up, 1 unit = 1 m.
-pub fn svg<const N: usize, const M: usize>(d: &Described<'_, N, M>) -> String {
-    let len = d.path.length();
-    let samples = ((len / 0.25).ceil() as usize).clamp(2, 20_000);
-    let pts: Vec<(f64, f64)> = (0..=samples)
-        .map(|i| {
-            let p = d.path.at(len * i as f64 / samples as f64);
-            (p.x, p.y)
-        })
-        .collect();
-    let all = pts.iter().chain(d.waypoints.iter());
-    let (mut x0, mut y0, mut x1, mut y1) = (f64::MAX, f64::MAX, f64::MIN, f64::MIN);
-    for &(x, y) in all {
-        x0 = x0.min(x);
-        y0 = y0.min(y);
-        x1 = x1.max(x);
-        y1 = y1.max(y);
-    }
-    let span = (x1 - x0).max(y1 - y0).max(1.0);
-    let margin = 0.05 * span;
-    let (w, h) = (x1 - x0 + 2.0 * margin, y1 - y0 + 2.0 * margin);
-    let stroke = span / 400.0;
-    // SVG y grows downwards: map north up with y' = (y1 + margin) - y.
-    let tx = |x: f64| x - x0 + margin;
-    let ty = |y: f64| y1 + margin - y;
-    let mut s = String::new();
-    let _ = writeln!(
-        s,
-        r#"<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {w:.3} {h:.3}" width="800" height="{:.0}">"#,
-        800.0 * h / w
-    );
-    let _ = writeln!(
-        s,
-        "<title>{} ({}), {:.1} m</title>",
-        escape(d.input),
-        escape(d.method),
-        len
-    );
-    let _ = writeln!(s, r#"<rect width="100%" height="100%" fill="white"/>"#);
-    let poly = |v: &[(f64, f64)]| {
-        v.iter()
-            .map(|&(x, y)| format!("{:.3},{:.3}", tx(x), ty(y)))
-            .collect::<Vec<_>>()
-            .join(" ")
-    };
-    let _ = writeln!(
-        s,
-        r##"<polyline points="{}" fill="none" stroke="#999" stroke-width="{stroke:.3}" stroke-dasharray="{:.3}"/>"##,
-        poly(d.waypoints),
-        4.0 * stroke
-    );
-    let _ = writeln!(
-        s,
-        r##"<polyline points="{}" fill="none" stroke="#1f5fbf" stroke-width="{:.3}"/>"##,
-        poly(&pts),
-        2.0 * stroke
-    );
-    for &(x, y) in d.waypoints {
-        let _ = writeln!(
-            s,
-            r##"<circle cx="{:.3}" cy="{:.3}" r="{:.3}" fill="#333"/>"##,
-            tx(x),
-            ty(y),
-            3.0 * stroke
-        );
-    }
-    for c in d.corners {
-        let Some(&(vx, vy)) = d.waypoints.get(c.vertex) else {
-            continue;
-        };
-        let _ = writeln!(
-            s,
-            r##"<circle cx="{:.3}" cy="{:.3}" r="{:.3}" fill="none" stroke="#2a9d3a" stroke-width="{stroke:.3}"><title>vertex {}: deviation {:.3} m</title></circle>"##,
-            tx(vx),
-            ty(vy),
-            c.deviation.max(3.0 * stroke),
-            c.vertex,
-            c.deviation
-        );
-    }
-    for v in d.report.violations.iter() {
-        let p = d.path.at(v.station);
-        let what = match v.kind {
-            ViolationKind::Curvature => "curvature",
-            ViolationKind::Sharpness => "sharpness",
-            ViolationKind::CurvatureJump => "curvature jump",
-        };
-        let _ = writeln!(
-            s,
-            r##"<circle cx="{:.3}" cy="{:.3}" r="{:.3}" fill="none" stroke="#d62728" stroke-width="{:.3}"><title>{what} at station {:.2} m</title></circle>"##,
-            tx(p.x),
-            ty(p.y),
-            8.0 * stroke,
-            1.5 * stroke,
-            v.station
-        );
-    }
-    let _ = writeln!(s, "</svg>");
-    s
-}
-
-fn escape(t: &str) -> String {
-    t.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
 }

@@ -1,7 +1,10 @@
 //! What a run leaves behind: a summary table on the terminal, a CSV trace,
-//! SVG plots and an HTML page embedding them, in one directory per scenario.
+//! SVG plots, a machine-readable `result.json`, the resolved scenario and
+//! an HTML page embedding the plots, in one directory per scenario.
 
+pub mod plots;
 pub mod svg;
+pub mod sweep_report;
 
 use std::fmt::Write as _;
 use std::fs;
@@ -13,16 +16,152 @@ use crate::closed_loop::RunOutput;
 use crate::firmware::SupervisorStatus;
 use crate::metrics::{status_log, Check, ErrorStats, Metrics};
 use crate::scenario::Scenario;
-use svg::{esc, Plot, Series};
+use svg::esc;
 
-/// The summary table of one run, for the terminal.
+/// The tool and its version, as reports name it.
+pub fn tool_version() -> String {
+    format!("kappaline-hil {}", env!("CARGO_PKG_VERSION"))
+}
+
+/// The files [`write_all`] writes.
+pub const FILES: [&str; 13] = [
+    "report.html",
+    "summary.txt",
+    "result.json",
+    "scenario.toml",
+    "trace.csv",
+    "path.svg",
+    "deviation.svg",
+    "cross_track.svg",
+    "cross_track_histogram.svg",
+    "steering.svg",
+    "heading_error.svg",
+    "speed.svg",
+    "status.svg",
+];
+
+/// Most status changes the summary lists (all are in `result.json`).
+const STATUS_LOG_LINES: usize = 60;
+
+/// How the supervisor answered one injected fault.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct FaultReaction {
+    /// The fault, in words.
+    pub fault: String,
+    /// Its window, s.
+    pub from_s: f64,
+    /// End of the window, s.
+    pub until_s: f64,
+    /// Status when it began.
+    pub status_at_onset: String,
+    /// Statuses entered from the onset until [`REACTION_AFTER_S`] after its end.
+    pub statuses_seen: Vec<String>,
+    /// Time from the onset to the first status change, s (`None`: no change).
+    pub first_change_after_s: Option<f64>,
+    /// First time back in `following` after leaving it, s (`None`: it did
+    /// not leave it, or never came back).
+    pub following_again_at_s: Option<f64>,
+    /// Largest |cross-track| from the onset until [`REACTION_AFTER_S`] after the end, metres.
+    pub max_cross_track_m: f64,
+}
+
+/// How long after a fault its effects are still counted, s.
+pub const REACTION_AFTER_S: f64 = 10.0;
+
+/// The supervisor's reaction to each fault of the scenario.
+pub fn fault_reactions(scenario: &Scenario, run: &RunOutput) -> Vec<FaultReaction> {
+    scenario
+        .spec
+        .faults
+        .iter()
+        .map(|f| {
+            let (a, b) = f.window();
+            let z = b + REACTION_AFTER_S;
+            let at_onset = run
+                .statuses
+                .iter()
+                .take_while(|c| c.t_s <= a)
+                .last()
+                .map_or("none".to_string(), |c| c.status.name().to_string());
+            let mut seen: Vec<String> = Vec::new();
+            for c in run.statuses.iter().filter(|c| c.t_s > a && c.t_s <= z) {
+                let n = c.status.name().to_string();
+                if !seen.contains(&n) {
+                    seen.push(n);
+                }
+            }
+            let first = run
+                .statuses
+                .iter()
+                .find(|c| c.t_s > a)
+                .map(|c| c.t_s - a)
+                .filter(|d| a + d <= z);
+            // Back in following after the fault, if it ever left it.
+            let again = run
+                .statuses
+                .iter()
+                .find(|c| c.t_s > a && c.status == SupervisorStatus::Following)
+                .map(|c| c.t_s)
+                .filter(|_| !seen.is_empty());
+            let max_xte = run
+                .trace
+                .iter()
+                .filter(|r| r.t_s >= a && r.t_s <= z && r.on_path)
+                .map(|r| r.cross_track_m.abs())
+                .fold(0.0, f64::max);
+            FaultReaction {
+                fault: f.describe(),
+                from_s: a,
+                until_s: b,
+                status_at_onset: at_onset,
+                statuses_seen: seen,
+                first_change_after_s: first,
+                following_again_at_s: again,
+                max_cross_track_m: max_xte,
+            }
+        })
+        .collect()
+}
+
+/// The summary of one run, for the terminal: the figures, then the checks.
 pub fn summary(scenario: &Scenario, m: &Metrics, checks: &[Check], run: &RunOutput) -> String {
+    let mut s = figures(scenario, m, run);
+    let _ = writeln!(s);
+    s.push_str(&checks_table(checks));
+    s
+}
+
+fn checks_table(checks: &[Check]) -> String {
     let mut s = String::new();
     let _ = writeln!(
         s,
-        "scenario  {}  (seed {})",
+        "{:<30} {:>16} {:>22}  result",
+        "check", "measured", "limit"
+    );
+    for c in checks {
+        let _ = writeln!(
+            s,
+            "{:<30} {:>16} {:>22}  {}",
+            c.name,
+            c.measured,
+            c.limit,
+            if c.pass { "pass" } else { "FAIL" }
+        );
+    }
+    let pass = checks.iter().all(|c| c.pass);
+    let _ = writeln!(s, "\nresult: {}", if pass { "PASS" } else { "FAIL" });
+    s
+}
+
+/// The figures of one run without the checks table.
+fn figures(scenario: &Scenario, m: &Metrics, run: &RunOutput) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "scenario  {}  (seed {}, {})",
         scenario.name(),
-        scenario.spec.seed
+        scenario.spec.seed,
+        tool_version()
     );
     if !scenario.spec.description.is_empty() {
         let _ = writeln!(s, "          {}", scenario.spec.description);
@@ -35,6 +174,18 @@ pub fn summary(scenario: &Scenario, m: &Metrics, checks: &[Check], run: &RunOutp
         scenario.path.length(),
         m.completion
     );
+    if let Some(why) = &run.stopped_early {
+        let _ = writeln!(s, "STOPPED EARLY: {why}");
+    }
+    if run.trace_every > 1 {
+        let _ = writeln!(
+            s,
+            "note: long run, the trace keeps one record tick in {} ({:.2} Hz) to stay within {} rows",
+            run.trace_every,
+            scenario.spec.metrics.record_hz / run.trace_every as f64,
+            crate::closed_loop::MAX_TRACE_ROWS
+        );
+    }
     let _ = writeln!(s);
     let _ = writeln!(
         s,
@@ -72,25 +223,45 @@ pub fn summary(scenario: &Scenario, m: &Metrics, checks: &[Check], run: &RunOutp
         }
     }
     let _ = writeln!(s, "time in status         {}", times.trim_end());
-    let _ = writeln!(s, "status changes         {}", status_log(run));
-    let _ = writeln!(s);
+    let log = status_log(run);
+    let mut words = log.split(' ');
+    let shown: Vec<&str> = words.by_ref().take(STATUS_LOG_LINES).collect();
+    let more = words.count() + run.statuses_dropped;
     let _ = writeln!(
         s,
-        "{:<30} {:>16} {:>22}  result",
-        "check", "measured", "limit"
+        "status changes         {}{}",
+        shown.join(" "),
+        if more > 0 {
+            format!(" ... and {more} more (result.json has the kept ones)")
+        } else {
+            String::new()
+        }
     );
-    for c in checks {
-        let _ = writeln!(
-            s,
-            "{:<30} {:>16} {:>22}  {}",
-            c.name,
-            c.measured,
-            c.limit,
-            if c.pass { "pass" } else { "FAIL" }
-        );
+    let reactions = fault_reactions(scenario, run);
+    if !reactions.is_empty() {
+        let _ = writeln!(s, "\ninjected faults and the supervisor's reaction:");
+        for r in &reactions {
+            let _ = writeln!(
+                s,
+                "  {}\n    status at onset {}; then {}; first change after {}; following again {}; max |cross-track| {:.3} m",
+                r.fault,
+                r.status_at_onset,
+                if r.statuses_seen.is_empty() {
+                    "no change".to_string()
+                } else {
+                    r.statuses_seen.join(", ")
+                },
+                r.first_change_after_s
+                    .map_or("-".into(), |d| format!("{d:.2} s")),
+                match (r.following_again_at_s, r.statuses_seen.is_empty()) {
+                    (Some(t), _) => format!("at {t:.2} s"),
+                    (None, true) => "-".into(),
+                    (None, false) => "never".into(),
+                },
+                r.max_cross_track_m
+            );
+        }
     }
-    let pass = checks.iter().all(|c| c.pass);
-    let _ = writeln!(s, "\nresult: {}", if pass { "PASS" } else { "FAIL" });
     s
 }
 
@@ -108,117 +279,38 @@ pub fn write_csv(path: &FsPath, run: &RunOutput) -> anyhow::Result<()> {
     Ok(())
 }
 
-/// Every `k`-th item so that at most `max` remain.
-fn thin<T: Copy>(v: &[T], max: usize) -> Vec<T> {
-    let k = v.len().div_ceil(max.max(1)).max(1);
-    v.iter().step_by(k).copied().collect()
+/// The machine-readable result: every metric, check (measured, threshold,
+/// pass), the seed, the tool version, the faults and how the supervisor
+/// answered them.
+pub fn result_json(
+    scenario: &Scenario,
+    m: &Metrics,
+    checks: &[Check],
+    run: &RunOutput,
+) -> serde_json::Value {
+    let statuses: Vec<serde_json::Value> = run
+        .statuses
+        .iter()
+        .map(|c| serde_json::json!({ "t_s": c.t_s, "status": c.status.name() }))
+        .collect();
+    serde_json::json!({
+        "tool": tool_version(),
+        "scenario": scenario.name(),
+        "description": scenario.spec.description,
+        "seed": scenario.spec.seed,
+        "pass": checks.iter().all(|c| c.pass),
+        "checks": checks,
+        "metrics": m,
+        "faults": fault_reactions(scenario, run),
+        "status_changes": statuses,
+        "status_changes_dropped": run.statuses_dropped,
+        "trace_rows": run.trace.len(),
+        "trace_every_record_ticks": run.trace_every,
+        "stopped_early": run.stopped_early,
+    })
 }
 
-/// The map: path (sampled from the continuous path) and the driven track.
-pub fn path_plot(scenario: &Scenario, run: &RunOutput) -> Plot {
-    let p = &*scenario.path;
-    let len = p.length();
-    let n = ((len / 0.25).ceil() as usize).clamp(2, 8000);
-    let path_pts: Vec<(f64, f64)> = (0..=n)
-        .map(|i| {
-            let pt = p.at(len * i as f64 / n as f64);
-            (pt.x, pt.y)
-        })
-        .collect();
-    let track: Vec<(f64, f64)> = run
-        .trace
-        .iter()
-        .map(|r| (r.point_x_m, r.point_y_m))
-        .collect();
-    let fixes: Vec<(f64, f64)> = run
-        .trace
-        .iter()
-        .filter_map(|r| Some((r.fix_x_m?, r.fix_y_m?)))
-        .collect();
-    Plot {
-        title: format!("{}: path and driven track", scenario.name()),
-        x_label: "east [m]".into(),
-        y_label: "north [m]".into(),
-        equal: true,
-        size: (900.0, 640.0),
-        series: vec![
-            Series {
-                label: "antenna fixes".into(),
-                colour: "#bbbbbb",
-                width: 1.0,
-                dash: "",
-                points: thin(&fixes, 6000),
-            },
-            Series {
-                label: "path".into(),
-                colour: "#1f5fbf",
-                width: 2.0,
-                dash: "6 4",
-                points: path_pts,
-            },
-            Series {
-                label: "driven (true point)".into(),
-                colour: "#d2462b",
-                width: 1.2,
-                dash: "",
-                points: thin(&track, 8000),
-            },
-        ],
-        h_lines: Vec::new(),
-    }
-}
-
-/// Cross-track error against distance along the path.
-pub fn cross_track_plot(scenario: &Scenario, run: &RunOutput) -> Plot {
-    let straight: Vec<(f64, f64)> = run
-        .trace
-        .iter()
-        .map(|r| {
-            if r.straight_pass {
-                (r.progress_m, r.cross_track_m)
-            } else {
-                (f64::NAN, f64::NAN)
-            }
-        })
-        .collect();
-    let all: Vec<(f64, f64)> = run
-        .trace
-        .iter()
-        .filter(|r| r.on_path)
-        .map(|r| (r.progress_m, r.cross_track_m))
-        .collect();
-    let mut h_lines = vec![(0.0, "#444")];
-    if let Some(l) = scenario.spec.thresholds.straight_max_m {
-        h_lines.push((l, "#a00"));
-        h_lines.push((-l, "#a00"));
-    }
-    Plot {
-        title: format!("{}: cross-track error (left positive)", scenario.name()),
-        x_label: "distance along the path [m]".into(),
-        y_label: "cross-track error [m]".into(),
-        equal: false,
-        size: (900.0, 360.0),
-        series: vec![
-            Series {
-                label: "all on-path".into(),
-                colour: "#999999",
-                width: 1.0,
-                dash: "",
-                points: thin(&all, 8000),
-            },
-            Series {
-                label: "straight passes".into(),
-                colour: "#1f7f3f",
-                width: 1.2,
-                dash: "",
-                points: thin(&straight, 8000),
-            },
-        ],
-        h_lines,
-    }
-}
-
-/// The HTML page with the summary, the checks and both plots inline.
+/// The HTML page: verdict, checks (once), figures, faults, every plot inline.
 pub fn html(scenario: &Scenario, m: &Metrics, checks: &[Check], run: &RunOutput) -> String {
     let mut s = String::new();
     let pass = checks.iter().all(|c| c.pass);
@@ -227,7 +319,7 @@ pub fn html(scenario: &Scenario, m: &Metrics, checks: &[Check], run: &RunOutput)
         "<!doctype html>\n<html><head><meta charset=\"utf-8\"><title>kappaline-hil: {name}</title>\
 <style>body{{font-family:sans-serif;max-width:960px;margin:2em auto;color:#222}}\
 table{{border-collapse:collapse}}td,th{{border:1px solid #ccc;padding:3px 8px;text-align:right}}\
-th{{background:#f3f3f3}}.pass{{color:#176a2f}}.fail{{color:#b00;font-weight:bold}}\
+th{{background:#f3f3f3}}.pass{{color:#2f7a4e}}.fail{{color:#a3242f;font-weight:bold}}\
 pre{{background:#f7f7f7;padding:8px;overflow-x:auto}}</style></head><body>\n\
 <h1>Scenario {name}: <span class=\"{cls}\">{verdict}</span></h1>\n<p>{desc}</p>\n",
         name = esc(scenario.name()),
@@ -237,11 +329,12 @@ pre{{background:#f7f7f7;padding:8px;overflow-x:auto}}</style></head><body>\n\
     );
     let _ = writeln!(
         s,
-        "<p>Seed {}; simulated {:.1} s; {:.1} m driven along a {:.1} m path.</p>",
+        "<p>Seed {}; simulated {:.1} s; {:.1} m driven along a {:.1} m path; {}.</p>",
         scenario.spec.seed,
         m.sim_time_s,
         m.distance_m,
-        scenario.path.length()
+        scenario.path.length(),
+        esc(&tool_version())
     );
     s.push_str("<h2>Checks</h2>\n<table><tr><th>check</th><th>measured</th><th>limit</th><th>result</th></tr>\n");
     for c in checks {
@@ -255,30 +348,45 @@ pre{{background:#f7f7f7;padding:8px;overflow-x:auto}}</style></head><body>\n\
             if c.pass { "pass" } else { "FAIL" }
         );
     }
-    s.push_str("</table>\n<h2>Summary</h2>\n<pre>");
-    s.push_str(&esc(&summary(scenario, m, checks, run)));
-    s.push_str("</pre>\n<h2>Path and driven track</h2>\n");
-    s.push_str(&path_plot(scenario, run).render());
-    s.push_str("<h2>Cross-track error</h2>\n");
-    s.push_str(&cross_track_plot(scenario, run).render());
-    s.push_str("<h2>Straight-pass cross-track distribution</h2>\n<table><tr><th>from [m]</th><th>to [m]</th><th>samples</th></tr>\n");
-    for b in m.straight_histogram.iter().filter(|b| b.count > 0) {
-        let _ = writeln!(
-            s,
-            "<tr><td>{:.3}</td><td>{:.3}</td><td>{}</td></tr>",
-            b.from_m, b.to_m, b.count
-        );
+    s.push_str("</table>\n<h2>Figures</h2>\n<pre>");
+    s.push_str(&esc(&figures(scenario, m, run)));
+    s.push_str("</pre>\n");
+    if !scenario.spec.faults.is_empty() {
+        s.push_str("<h2>Injected faults and the supervisor's reaction</h2>\n<table><tr><th>fault</th><th>status at onset</th><th>statuses after</th><th>first change after [s]</th><th>following again at [s]</th><th>max |cross-track| [m]</th></tr>\n");
+        for r in fault_reactions(scenario, run) {
+            let _ = writeln!(
+                s,
+                "<tr><td style=\"text-align:left\">{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{:.3}</td></tr>",
+                esc(&r.fault),
+                esc(&r.status_at_onset),
+                esc(&r.statuses_seen.join(", ")),
+                r.first_change_after_s.map_or("-".into(), |d| format!("{d:.2}")),
+                match (r.following_again_at_s, r.statuses_seen.is_empty()) {
+                    (Some(t), _) => format!("{t:.2}"),
+                    (None, true) => "-".into(),
+                    (None, false) => "never".into(),
+                },
+                r.max_cross_track_m
+            );
+        }
+        s.push_str("</table>\n");
     }
-    s.push_str("</table>\n<p>Cross-track errors are distances of the true representative point to the continuous path (exact projection). \
+    for (title, plot) in plots::all(scenario, m, run) {
+        let _ = writeln!(s, "<h2>{}</h2>", esc(title));
+        s.push_str(&plot.render());
+    }
+    s.push_str("<h2>Resolved scenario</h2>\n<p>After every <code>--set</code> and <code>--param</code>; also in <code>scenario.toml</code>.</p>\n<pre>");
+    s.push_str(&esc(&scenario.resolved_toml()));
+    s.push_str("</pre>\n<p>Cross-track errors are distances of the true representative point to the continuous path (exact projection). \
 This harness is a test aid, not a certified safety function: keep an independent emergency stop and follow the functional-safety standards that apply to the machine.</p>\n</body></html>\n");
     s
 }
 
-/// Writes trace, plots and page for one run under `out_dir/<scenario name>/`;
-/// returns that directory.
+/// Writes trace, plots, result and page for one run under
+/// `out_dir/<scenario name>/`; returns that directory.
 ///
 /// # Errors
-/// I/O errors.
+/// I/O errors, naming the file.
 pub fn write_all(
     out_dir: &FsPath,
     scenario: &Scenario,
@@ -288,13 +396,18 @@ pub fn write_all(
 ) -> anyhow::Result<PathBuf> {
     let dir = out_dir.join(scenario.name());
     fs::create_dir_all(&dir).with_context(|| format!("creating {}", dir.display()))?;
+    let put = |name: &str, text: String| {
+        let p = dir.join(name);
+        fs::write(&p, text).with_context(|| format!("writing {}", p.display()))
+    };
     write_csv(&dir.join("trace.csv"), run)?;
-    fs::write(dir.join("path.svg"), path_plot(scenario, run).render())?;
-    fs::write(
-        dir.join("cross_track.svg"),
-        cross_track_plot(scenario, run).render(),
-    )?;
-    fs::write(dir.join("report.html"), html(scenario, m, checks, run))?;
-    fs::write(dir.join("summary.txt"), summary(scenario, m, checks, run))?;
+    for (file, plot) in plots::files(scenario, m, run) {
+        put(file, plot.render())?;
+    }
+    put("report.html", html(scenario, m, checks, run))?;
+    put("summary.txt", summary(scenario, m, checks, run))?;
+    let json = serde_json::to_string_pretty(&result_json(scenario, m, checks, run))?;
+    put("result.json", json + "\n")?;
+    put("scenario.toml", scenario.resolved_toml())?;
     Ok(dir)
 }

@@ -8,8 +8,10 @@
 pub mod builtin;
 pub mod overrides;
 pub mod paths;
+pub mod presets;
 pub mod schema;
-mod validate;
+pub mod template;
+pub mod validate;
 
 use std::sync::Arc;
 
@@ -66,6 +68,9 @@ pub struct Scenario {
     pub path: Arc<HostPath>,
     /// Its start pose.
     pub start: Pose<f64>,
+    /// The scenario as TOML after every `--set` and `--param`, when it was
+    /// read from text (what the report writes as `scenario.toml`).
+    pub resolved: Option<Arc<toml::Value>>,
 }
 
 impl Scenario {
@@ -90,6 +95,7 @@ impl Scenario {
     /// # Errors
     /// As [`Scenario::parse`].
     pub fn from_value(value: toml::Value, source_name: &str) -> Result<Self, ScenarioError> {
+        let resolved = Arc::new(value.clone());
         let spec: ScenarioFile = serde_path_to_error::deserialize(value).map_err(|e| {
             let field = e.path().to_string();
             ScenarioError::Schema {
@@ -102,7 +108,9 @@ impl Scenario {
                 message: e.into_inner().to_string(),
             }
         })?;
-        Self::from_spec(spec, source_name)
+        let mut s = Self::from_spec(spec, source_name)?;
+        s.resolved = Some(resolved);
+        Ok(s)
     }
 
     /// Checks an already deserialised scenario.
@@ -117,17 +125,32 @@ impl Scenario {
         };
         validate::check(&spec).map_err(invalid)?;
         let path = paths::build(&spec.path).map_err(invalid)?;
+        validate::check_start_offset(&spec.start, path.length()).map_err(invalid)?;
         let start = path.anchor(0).unwrap_or_default();
         Ok(Self {
             spec,
             path: Arc::new(path),
             start,
+            resolved: None,
         })
     }
 
     /// The scenario's name.
     pub fn name(&self) -> &str {
         &self.spec.name
+    }
+
+    /// The resolved scenario as TOML text, with the seed the run used
+    /// (empty when the scenario was not read from text).
+    pub fn resolved_toml(&self) -> String {
+        let Some(v) = &self.resolved else {
+            return String::new();
+        };
+        let mut v = (**v).clone();
+        if let (toml::Value::Table(t), Ok(seed)) = (&mut v, i64::try_from(self.spec.seed)) {
+            t.insert("seed".into(), toml::Value::Integer(seed));
+        }
+        toml::to_string(&v).unwrap_or_default()
     }
 }
 
@@ -175,7 +198,7 @@ pub fn load(name_or_path: &str, overrides: &[(String, toml::Value)]) -> anyhow::
         message: e.message().to_string() + &line_of(&text, e.span()),
     })?;
     for (k, v) in overrides {
-        overrides::set(&mut value, k, v.clone()).map_err(|e| anyhow::anyhow!("--set {e}"))?;
+        overrides::apply(&mut value, k, v.clone()).map_err(|e| anyhow::anyhow!("--set {e}"))?;
     }
     Ok(Scenario::from_value(value, &source)?)
 }

@@ -5,12 +5,42 @@
 
 use toml::Value;
 
+use super::presets::MachineKind;
+
+/// Applies one `--set`: like [`set`], except that choosing a steering law
+/// (`controller.law.kind=stanley`, or `controller.law=stanley`) replaces
+/// the whole law table with that law's gains for the machine kind of the
+/// scenario's vehicle (see [`MachineKind::of_vehicle`]), because the gains
+/// of one law mean nothing to another. Later `--set`s can then change
+/// single gains.
+///
+/// # Errors
+/// As [`set`], and an unknown law name.
+pub fn apply(root: &mut Value, path: &str, value: Value) -> Result<(), String> {
+    let key = path.trim();
+    let switching = key == "controller.law.kind" || key == "controller.law";
+    let Some(law) = value.as_str().filter(|_| switching) else {
+        return set(root, path, value);
+    };
+    let current = root
+        .get("controller")
+        .and_then(|c| c.get("law"))
+        .and_then(|l| l.get("kind"))
+        .and_then(Value::as_str);
+    if current == Some(law) {
+        return Ok(());
+    }
+    let kind = MachineKind::of_vehicle(root.get("vehicle"));
+    let table = kind.law_table(law).map_err(|e| format!("`{path}`: {e}"))?;
+    set(root, "controller.law", Value::Table(table))
+}
+
 /// Sets `path` (dotted keys, `[i]` for array items) in `root` to `value`.
 ///
 /// # Errors
-/// A message naming the path when a step does not exist or is not a table
-/// or array. A missing last key is added (the schema check then refuses it
-/// if the schema has no such field).
+/// A message naming the path when a step is not a table or array, or an
+/// index is out of range. Missing keys and tables are added (the schema
+/// check then refuses them if the schema has no such field).
 pub fn set(root: &mut Value, path: &str, value: Value) -> Result<(), String> {
     let steps = parse_path(path)?;
     let mut here = root;
@@ -26,10 +56,11 @@ pub fn set(root: &mut Value, path: &str, value: Value) -> Result<(), String> {
                     t.insert(k, value);
                     return Ok(());
                 }
-                match t.get_mut(&k) {
-                    Some(v) => v,
-                    None => return Err(format!("`{path}`: no field `{k}`")),
-                }
+                // A missing table on the way is created (an optional table
+                // such as `controller.supervisor`); the schema check then
+                // refuses it if the schema has no such table.
+                t.entry(k)
+                    .or_insert_with(|| Value::Table(toml::Table::new()))
             }
             Step::Index(ix) => {
                 let Value::Array(a) = here else {
@@ -112,7 +143,9 @@ mod tests {
         set(&mut v, "c[0].d", literal("\"x\"")).unwrap();
         assert_eq!(v["a"]["b"].as_float(), Some(3.5));
         assert_eq!(v["c"][0]["d"].as_str(), Some("x"));
-        assert!(set(&mut v, "z.y", literal("1")).is_err());
+        set(&mut v, "z.y", literal("1")).unwrap();
+        assert_eq!(v["z"]["y"].as_integer(), Some(1));
+        assert!(set(&mut v, "a.b.c", literal("1")).is_err());
         assert!(set(&mut v, "c[3].d", literal("1")).is_err());
     }
 }

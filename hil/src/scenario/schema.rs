@@ -576,13 +576,143 @@ pub enum FaultSpec {
         #[serde(default)]
         extra_noise_m: f64,
     },
-    /// The steering actuator stops moving.
+    /// The steering actuator stops following its command and holds where
+    /// it is (a differential drive holds both wheel speeds).
     SteerStuck {
         /// Start, s.
         at_s: f64,
         /// Length, s.
         duration_s: f64,
     },
+    /// Fixes with non-finite numbers (NaN position and heading), as a
+    /// receiver or driver bug would send them.
+    GnssNonFinite {
+        /// Start, s.
+        at_s: f64,
+        /// Length, s.
+        duration_s: f64,
+    },
+    /// A stale stream: the receiver keeps sending its last epoch before the
+    /// fault, with the same time stamp, as a hung driver does.
+    GnssStale {
+        /// Start, s.
+        at_s: f64,
+        /// Length, s.
+        duration_s: f64,
+    },
+    /// Epochs sampled in the window arrive `extra_latency_s` late (and
+    /// everything behind them waits: delivery stays in order).
+    LatencySpike {
+        /// Start, s.
+        at_s: f64,
+        /// Length, s.
+        duration_s: f64,
+        /// Added delay, s.
+        extra_latency_s: f64,
+    },
+    /// An indoor positioning source re-matching its map: the reported pose
+    /// steps by the offset at `at_s`, and again every `every_s` for `count`
+    /// steps; the steps add up and stay.
+    Relocalisation {
+        /// First step, s.
+        at_s: f64,
+        /// Number of steps.
+        #[serde(default = "one")]
+        count: u32,
+        /// Time between steps, s (needed when `count` > 1).
+        #[serde(default)]
+        every_s: f64,
+        /// Step east, metres.
+        #[serde(default)]
+        east_m: f64,
+        /// Step north, metres.
+        #[serde(default)]
+        north_m: f64,
+        /// Step of the reported heading, degrees.
+        #[serde(default)]
+        heading_deg: f64,
+    },
+}
+
+fn one() -> u32 {
+    1
+}
+
+impl FaultSpec {
+    /// The scenario-file name of the fault's type.
+    pub fn kind(&self) -> &'static str {
+        match self {
+            FaultSpec::GnssDropout { .. } => "gnss_dropout",
+            FaultSpec::GnssJump { .. } => "gnss_jump",
+            FaultSpec::SteerStuck { .. } => "steer_stuck",
+            FaultSpec::GnssNonFinite { .. } => "gnss_non_finite",
+            FaultSpec::GnssStale { .. } => "gnss_stale",
+            FaultSpec::LatencySpike { .. } => "latency_spike",
+            FaultSpec::Relocalisation { .. } => "relocalisation",
+            FaultSpec::SolutionDrop { .. } => "solution_drop",
+        }
+    }
+
+    /// The time window the fault acts in, s (a relocalisation: from its
+    /// first to its last step).
+    pub fn window(&self) -> (f64, f64) {
+        match *self {
+            FaultSpec::GnssDropout { at_s, duration_s }
+            | FaultSpec::GnssJump {
+                at_s, duration_s, ..
+            }
+            | FaultSpec::SteerStuck { at_s, duration_s }
+            | FaultSpec::GnssNonFinite { at_s, duration_s }
+            | FaultSpec::GnssStale { at_s, duration_s }
+            | FaultSpec::LatencySpike {
+                at_s, duration_s, ..
+            }
+            | FaultSpec::SolutionDrop {
+                at_s, duration_s, ..
+            } => (at_s, at_s + duration_s),
+            FaultSpec::Relocalisation {
+                at_s,
+                count,
+                every_s,
+                ..
+            } => (at_s, at_s + f64::from(count.saturating_sub(1)) * every_s),
+        }
+    }
+
+    /// One line for reports: type, window and parameters.
+    pub fn describe(&self) -> String {
+        let (a, b) = self.window();
+        let extra = match *self {
+            FaultSpec::GnssJump {
+                east_m, north_m, ..
+            } => format!(", offset {east_m} m east, {north_m} m north"),
+            FaultSpec::LatencySpike {
+                extra_latency_s, ..
+            } => format!(", {extra_latency_s} s added"),
+            FaultSpec::Relocalisation {
+                count,
+                every_s,
+                east_m,
+                north_m,
+                heading_deg,
+                ..
+            } => {
+                let step = format!("{east_m} m east, {north_m} m north, {heading_deg} deg");
+                if count > 1 {
+                    format!(", {count} steps every {every_s} s of {step}")
+                } else {
+                    format!(", a step of {step}")
+                }
+            }
+            FaultSpec::SolutionDrop {
+                solution,
+                extra_noise_m,
+                ..
+            } => format!(", {solution:?} solution, {extra_noise_m} m more noise"),
+            _ => String::new(),
+        };
+        format!("{} from {a} s to {b} s{extra}", self.kind())
+    }
 }
 
 /// How the run is measured.

@@ -2,17 +2,29 @@
 
 use super::schema::*;
 
-type Check = Result<(), (String, String)>;
+/// A check: `Err((dotted field, message))` on failure.
+pub type Check = Result<(), (String, String)>;
 
 fn fail(field: &str, msg: String) -> Check {
     Err((field.to_string(), msg))
+}
+
+/// A number for a message: plain when moderate, in exponent form when huge
+/// or tiny (so that `1e300` reads as such).
+pub fn show(v: f64) -> String {
+    let a = v.abs();
+    if v.is_finite() && a != 0.0 && !(1e-4..1e7).contains(&a) {
+        format!("{v:e}")
+    } else {
+        format!("{v}")
+    }
 }
 
 fn finite(field: &str, v: f64) -> Check {
     if v.is_finite() {
         Ok(())
     } else {
-        fail(field, format!("must be a finite number, got {v}"))
+        fail(field, format!("must be a finite number, got {}", show(v)))
     }
 }
 
@@ -20,7 +32,7 @@ fn positive(field: &str, v: f64) -> Check {
     if v.is_finite() && v > 0.0 {
         Ok(())
     } else {
-        fail(field, format!("must be > 0, got {v}"))
+        fail(field, format!("must be > 0, got {}", show(v)))
     }
 }
 
@@ -28,7 +40,7 @@ fn non_negative(field: &str, v: f64) -> Check {
     if v.is_finite() && v >= 0.0 {
         Ok(())
     } else {
-        fail(field, format!("must be >= 0, got {v}"))
+        fail(field, format!("must be >= 0, got {}", show(v)))
     }
 }
 
@@ -36,8 +48,40 @@ fn within(field: &str, v: f64, lo: f64, hi: f64) -> Check {
     if v.is_finite() && (lo..=hi).contains(&v) {
         Ok(())
     } else {
-        fail(field, format!("must lie in [{lo}, {hi}], got {v}"))
+        fail(field, format!("must lie in [{lo}, {hi}], got {}", show(v)))
     }
+}
+
+/// Longest simulated time a scenario may ask for, s (about 28 hours; a
+/// longer test is a sweep of shorter runs).
+pub const MAX_DURATION_S: f64 = 100_000.0;
+/// Most physics steps of one run (`duration_s * physics_hz`).
+pub const MAX_PHYSICS_STEPS: f64 = 1e9;
+/// Most faults a scenario may list.
+pub const MAX_FAULTS: usize = 1000;
+/// Most status expectations a scenario may list.
+pub const MAX_EXPECTATIONS: usize = 1000;
+/// Largest seed in a scenario file: TOML integers are signed 64-bit.
+pub const MAX_FILE_SEED: u64 = i64::MAX as u64;
+
+/// A duration, s: finite, > 0 and at most [`MAX_DURATION_S`].
+pub fn duration(field: &str, v: f64) -> Check {
+    if v.is_finite() && v > 0.0 && v <= MAX_DURATION_S {
+        Ok(())
+    } else {
+        fail(
+            field,
+            format!(
+                "must be a duration in (0, {MAX_DURATION_S}] s, got {}",
+                show(v)
+            ),
+        )
+    }
+}
+
+/// A time of a fault or window, s: finite, >= 0 and at most [`MAX_DURATION_S`].
+fn instant(field: &str, v: f64) -> Check {
+    within(field, v, 0.0, MAX_DURATION_S)
 }
 
 /// Status names a scenario may use.
@@ -51,6 +95,12 @@ pub const STATUS_NAMES: [&str; 6] = [
 ];
 
 pub(super) fn check(s: &ScenarioFile) -> Check {
+    if s.seed > MAX_FILE_SEED {
+        return fail(
+            "seed",
+            format!("must be at most {MAX_FILE_SEED}, got {}", s.seed),
+        );
+    }
     if s.name.trim().is_empty() {
         return fail("name", "must not be empty".into());
     }
@@ -64,14 +114,49 @@ pub(super) fn check(s: &ScenarioFile) -> Check {
             format!("use letters, digits, '-' and '_' only, got {:?}", s.name),
         );
     }
-    positive("duration_s", s.duration_s)?;
+    duration("duration_s", s.duration_s)?;
     within("physics_hz", s.physics_hz, 10.0, 100_000.0)?;
+    let steps = s.duration_s * s.physics_hz;
+    if steps > MAX_PHYSICS_STEPS {
+        return fail(
+            "duration_s",
+            format!(
+                "{} s at physics_hz {} is {steps:.3e} physics steps, more than {MAX_PHYSICS_STEPS:.0e}: shorten the run or lower physics_hz",
+                s.duration_s, s.physics_hz
+            ),
+        );
+    }
+    if s.faults.len() > MAX_FAULTS {
+        return fail(
+            "faults",
+            format!("at most {MAX_FAULTS} faults, got {}", s.faults.len()),
+        );
+    }
     check_path(&s.path)?;
     check_vehicle(&s.vehicle)?;
     check_start(&s.start)?;
+    check_start_speed(&s.start, &s.vehicle)?;
     check_terrain(&s.terrain)?;
     check_gnss(&s.gnss)?;
     check_controller(&s.controller, s.physics_hz)?;
+    check_fix_age(&s.gnss, &s.controller.supervisor)?;
+    // Both are sampled on the physics grid: a faster rate would silently
+    // become the physics rate.
+    for (field, rate) in [
+        ("gnss.rate_hz", s.gnss.rate_hz),
+        ("metrics.record_hz", s.metrics.record_hz),
+    ] {
+        if rate > s.physics_hz {
+            return fail(
+                field,
+                format!(
+                    "{} Hz is faster than physics_hz ({} Hz), which samples it",
+                    show(rate),
+                    show(s.physics_hz)
+                ),
+            );
+        }
+    }
     for (i, f) in s.faults.iter().enumerate() {
         check_fault(&format!("faults[{i}]"), f)?;
     }
@@ -205,6 +290,86 @@ fn check_start(s: &StartSpec) -> Check {
     finite("start.left_m", s.left_m)?;
     within("start.heading_deg", s.heading_deg, -180.0, 180.0)?;
     finite("start.speed_m_s", s.speed_m_s)
+}
+
+/// Farthest the start may lie from the path start, as a share of the path
+/// length (with [`MIN_START_REACH_M`] for short paths): a machine placed
+/// farther away is not following this path at all.
+pub const START_REACH_PER_LENGTH: f64 = 1.0;
+/// Start offset always allowed, metres.
+pub const MIN_START_REACH_M: f64 = 20.0;
+
+/// The start offset against the size of the path (`length_m`, metres).
+pub fn check_start_offset(s: &StartSpec, length_m: f64) -> Check {
+    let reach = (START_REACH_PER_LENGTH * length_m).max(MIN_START_REACH_M);
+    for (field, v) in [("start.ahead_m", s.ahead_m), ("start.left_m", s.left_m)] {
+        if v.abs() > reach {
+            return fail(
+                field,
+                format!(
+                    "{} m puts the machine farther from the path start than {reach:.1} m (the path is {length_m:.1} m long): it would never meet the path",
+                    show(v)
+                ),
+            );
+        }
+    }
+    Ok(())
+}
+
+fn check_start_speed(s: &StartSpec, v: &VehicleSpec) -> Check {
+    let top = match *v {
+        VehicleSpec::Bicycle { max_speed_m_s, .. }
+        | VehicleSpec::Differential { max_speed_m_s, .. } => max_speed_m_s,
+    };
+    if s.speed_m_s.abs() > top {
+        return fail(
+            "start.speed_m_s",
+            format!(
+                "{} m/s is faster than the vehicle can go (vehicle.max_speed_m_s = {top})",
+                show(s.speed_m_s)
+            ),
+        );
+    }
+    Ok(())
+}
+
+/// The core's default stale-fix age when the scenario sets none, s
+/// (`SupervisorConfig::default_for`; it does not depend on the vehicle).
+pub const CORE_DEFAULT_MAX_FIX_AGE_S: f64 = 0.3;
+
+/// A fix is judged by its age: `latency` when it arrives, growing to
+/// `latency + 1 / rate` just before the next one. If that exceeds the
+/// supervisor's stale age, every epoch goes stale (or arrives stale) and
+/// the run never settles into following.
+fn check_fix_age(g: &GnssSpec, sv: &SupervisorSpec) -> Check {
+    let (age, field, origin) = match sv.max_fix_age_s {
+        Some(a) => (a, "controller.supervisor.max_fix_age_s", "set"),
+        None => (
+            CORE_DEFAULT_MAX_FIX_AGE_S,
+            "gnss.latency_s",
+            "the core's default",
+        ),
+    };
+    if g.latency_s >= age {
+        return fail(
+            "gnss.latency_s",
+            format!(
+                "{} s is not below controller.supervisor.max_fix_age_s ({age} s, {origin}): every fix would arrive stale and the run never leave acquiring; raise max_fix_age_s or lower the latency",
+                g.latency_s
+            ),
+        );
+    }
+    let worst = g.latency_s + 1.0 / g.rate_hz;
+    if worst > age {
+        return fail(
+            field,
+            format!(
+                "fixes reach an age of {worst:.3} s (latency {} s + one period at {} Hz) before the next one arrives, more than max_fix_age_s ({age} s, {origin}): the supervisor would call every epoch stale; raise controller.supervisor.max_fix_age_s",
+                g.latency_s, g.rate_hz
+            ),
+        );
+    }
+    Ok(())
 }
 
 fn check_terrain(t: &TerrainSpec) -> Check {
@@ -353,17 +518,25 @@ fn check_controller(c: &ControllerSpec, physics_hz: f64) -> Check {
 }
 
 fn check_fault(field: &str, f: &FaultSpec) -> Check {
-    let (at, dur) = match *f {
+    let at = |v: f64| instant(&format!("{field}.at_s"), v);
+    let dur = |v: f64| duration(&format!("{field}.duration_s"), v);
+    match *f {
         FaultSpec::GnssDropout { at_s, duration_s }
-        | FaultSpec::SteerStuck { at_s, duration_s } => (at_s, duration_s),
+        | FaultSpec::SteerStuck { at_s, duration_s }
+        | FaultSpec::GnssNonFinite { at_s, duration_s }
+        | FaultSpec::GnssStale { at_s, duration_s } => {
+            at(at_s)?;
+            dur(duration_s)
+        }
         FaultSpec::SolutionDrop {
             at_s,
             duration_s,
             extra_noise_m,
             ..
         } => {
-            non_negative(&format!("{field}.extra_noise_m"), extra_noise_m)?;
-            (at_s, duration_s)
+            within(&format!("{field}.extra_noise_m"), extra_noise_m, 0.0, 100.0)?;
+            at(at_s)?;
+            dur(duration_s)
         }
         FaultSpec::GnssJump {
             at_s,
@@ -371,13 +544,51 @@ fn check_fault(field: &str, f: &FaultSpec) -> Check {
             east_m,
             north_m,
         } => {
-            finite(&format!("{field}.east_m"), east_m)?;
-            finite(&format!("{field}.north_m"), north_m)?;
-            (at_s, duration_s)
+            within(&format!("{field}.east_m"), east_m, -1e4, 1e4)?;
+            within(&format!("{field}.north_m"), north_m, -1e4, 1e4)?;
+            at(at_s)?;
+            dur(duration_s)
         }
-    };
-    non_negative(&format!("{field}.at_s"), at)?;
-    positive(&format!("{field}.duration_s"), dur)
+        FaultSpec::LatencySpike {
+            at_s,
+            duration_s,
+            extra_latency_s,
+        } => {
+            at(at_s)?;
+            dur(duration_s)?;
+            // Bounded so that the queue of held epochs stays small.
+            within(
+                &format!("{field}.extra_latency_s"),
+                extra_latency_s,
+                0.0,
+                10.0,
+            )
+        }
+        FaultSpec::Relocalisation {
+            at_s,
+            count,
+            every_s,
+            east_m,
+            north_m,
+            heading_deg,
+        } => {
+            at(at_s)?;
+            if !(1..=10_000).contains(&count) {
+                return fail(
+                    &format!("{field}.count"),
+                    format!("must lie in [1, 10000], got {count}"),
+                );
+            }
+            if count > 1 {
+                duration(&format!("{field}.every_s"), every_s)?;
+            } else {
+                instant(&format!("{field}.every_s"), every_s)?;
+            }
+            within(&format!("{field}.east_m"), east_m, -1e4, 1e4)?;
+            within(&format!("{field}.north_m"), north_m, -1e4, 1e4)?;
+            within(&format!("{field}.heading_deg"), heading_deg, -180.0, 180.0)
+        }
+    }
 }
 
 fn check_metrics(m: &MetricsSpec) -> Check {
@@ -407,10 +618,19 @@ fn check_thresholds(t: &ThresholdSpec) -> Check {
     if let Some(c) = t.min_completion {
         within("thresholds.min_completion", c, 0.0, 1000.0)?;
     }
+    if t.expect_status.len() > MAX_EXPECTATIONS {
+        return fail(
+            "thresholds.expect_status",
+            format!(
+                "at most {MAX_EXPECTATIONS} entries, got {}",
+                t.expect_status.len()
+            ),
+        );
+    }
     for (i, e) in t.expect_status.iter().enumerate() {
         let f = format!("thresholds.expect_status[{i}]");
         status_name(&format!("{f}.status"), &e.status)?;
-        non_negative(&format!("{f}.from_s"), e.from_s)?;
+        instant(&format!("{f}.from_s"), e.from_s)?;
         if !(e.until_s.is_finite() && e.until_s >= e.from_s) {
             return fail(
                 &format!("{f}.until_s"),
