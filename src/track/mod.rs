@@ -6,7 +6,11 @@
 //! [`crate::num`] and [`crate::path`].
 
 pub(crate) mod error;
+pub(crate) mod foot;
 pub(crate) mod tracker;
 
 pub use error::TrackError;
-pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS};
+pub use foot::{MAX_REACH, MAX_TERMS, MAX_TURN};
+pub use tracker::{
+    TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS, NEWTON_STEPS,
+};

@@ -35,10 +35,29 @@
 
 use crate::num::real::{c, Real};
 use crate::path::anchored::Path;
-use crate::path::cursor::Cursor;
+use crate::path::cursor::{Cursor, Travel};
 use crate::path::pose::{Direction, PathPoint, Pose};
 use crate::path::project::{nearest_on_segment, Foot};
 use crate::track::error::TrackError;
+use crate::track::foot::Stepper;
+
+/// Most Newton evaluations of one stepped update (the first uses the foot
+/// carried from the last cycle and costs none).
+pub const NEWTON_STEPS: usize = 4;
+
+/// The Newton iteration on the foot condition stops when its step is below
+/// this, metres (`1e-6` in `f32`, `1e-12` in `f64`), plus the resolution of
+/// the coordinates in `T` (`4 epsilon (|x| + |y|)`: 6e-5 m at 1 km in `f32`,
+/// below which no evaluation can resolve the foot).
+#[inline]
+pub(crate) fn foot_tolerance<T: Real>(x: T, y: T) -> T {
+    let abs: T = if T::EPSILON > c(1e-10) {
+        c(1e-6)
+    } else {
+        c(1e-12)
+    };
+    abs + T::EPSILON * c(4.0) * (x.abs() + y.abs())
+}
 
 /// The projection window covers at most this many segments, half of them
 /// behind the last foot point and half ahead (its own segment counts on both
@@ -199,6 +218,12 @@ pub struct Tracker<T> {
     config: TrackerConfig<T>,
     cursor: Cursor<T>,
     acquired: bool,
+    /// The path point at `cursor`, carried to the next cycle (valid when
+    /// `foot_valid`).
+    foot: PathPoint<T>,
+    foot_valid: bool,
+    /// Exact bases near the foot and the lookahead, and the series around them.
+    stepper: Stepper<T>,
 }
 
 impl<T: Real> Tracker<T> {
@@ -213,6 +238,9 @@ impl<T: Real> Tracker<T> {
             config,
             cursor: Cursor::start(),
             acquired: false,
+            foot: PathPoint::default(),
+            foot_valid: false,
+            stepper: Stepper::default(),
         })
     }
 
@@ -247,6 +275,7 @@ impl<T: Real> Tracker<T> {
     /// Forgets the station: the next update searches the whole path.
     pub fn reset(&mut self) {
         self.acquired = false;
+        self.foot_valid = false;
     }
 
     /// Takes a known position on the path (e.g. resuming a pass at a
@@ -259,6 +288,8 @@ impl<T: Real> Tracker<T> {
     pub fn resume_at(&mut self, cursor: Cursor<T>) {
         self.cursor = cursor;
         self.acquired = true;
+        // The next update searches the window once and carries on from there.
+        self.foot_valid = false;
     }
 
     /// Projects `pose` (control point position in metres, body heading in
@@ -278,8 +309,7 @@ impl<T: Real> Tracker<T> {
             return self.acquire(path, pose);
         }
         check_input(pose, T::ZERO)?;
-        let foot = self.search_window(path, pose, None);
-        Ok(self.settle(path, pose, foot, T::ZERO))
+        Ok(self.locate(path, pose, None, T::ZERO))
     }
 
     /// As [`Tracker::update`], for a control point that should follow the
@@ -313,8 +343,7 @@ impl<T: Real> Tracker<T> {
         if !self.acquired {
             return self.acquire_with(path, pose, None, offset);
         }
-        let foot = self.search_window(path, pose, None);
-        Ok(self.settle(path, pose, foot, offset))
+        Ok(self.locate(path, pose, None, offset))
     }
 
     /// As [`Tracker::update`], for a vehicle that is driving in `direction`:
@@ -340,8 +369,7 @@ impl<T: Real> Tracker<T> {
             return self.acquire_driving(path, pose, Some(direction));
         }
         check_input(pose, T::ZERO)?;
-        let foot = self.search_window(path, pose, Some(direction));
-        Ok(self.settle(path, pose, foot, T::ZERO))
+        Ok(self.locate(path, pose, Some(direction), T::ZERO))
     }
 
     /// Searches the whole path for the control point (bounded by the path's
@@ -398,7 +426,44 @@ impl<T: Real> Tracker<T> {
         offset: T,
     ) -> Tracking<T> {
         let cursor = Cursor::on(foot.segment, foot.offset);
-        let point = cursor.point(path);
+        let point = self.stepper.near_point(path, foot.segment, foot.offset);
+        self.settle_at(path, pose, cursor, point, foot.dist2, offset)
+    }
+
+    /// The window search in general, the stepped foot when it is sure to
+    /// give the same foot (see [`Tracker::step_foot`]).
+    fn locate<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        driving: Option<Direction>,
+        offset: T,
+    ) -> Tracking<T> {
+        if let Some((cursor, point)) = self.step_foot(path, pose, driving) {
+            let ex = point.x - pose.x;
+            let ey = point.y - pose.y;
+            return self.settle_at(path, pose, cursor, point, ex * ex + ey * ey, offset);
+        }
+        let foot = self.search_window(path, pose, driving);
+        self.settle(path, pose, foot, offset)
+    }
+
+    /// As [`Tracker::settle`] for a foot already evaluated (`point` at
+    /// `cursor`, `dist2` m^2 from the control point).
+    fn settle_at<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        cursor: Cursor<T>,
+        point: PathPoint<T>,
+        dist2: T,
+        offset: T,
+    ) -> Tracking<T> {
+        let foot = Foot {
+            segment: cursor.segment(),
+            offset: cursor.offset(),
+            dist2,
+        };
         let lateral = point.lateral_offset(pose.x, pose.y);
         let along = point.along_offset(pose.x, pose.y);
         let mut station = path.normalize_station(point.station);
@@ -435,8 +500,11 @@ impl<T: Real> Tracker<T> {
             status = TrackStatus::Lost;
         } else {
             self.cursor = cursor;
+            self.foot = point;
+            self.foot_valid = true;
         }
-        let ahead = cursor.moved(path, self.config.lookahead).0.point(path);
+        let (to, _) = cursor.moved(path, self.config.lookahead);
+        let ahead = self.stepper.far_point(path, to.segment(), to.offset());
         Tracking {
             station,
             cross_track: lateral,
@@ -447,6 +515,78 @@ impl<T: Real> Tracker<T> {
             foot: point,
             ahead,
             status,
+        }
+    }
+
+    /// The foot by Newton on the foot condition, stepped from the foot of
+    /// the last cycle (at most [`NEWTON_STEPS`] series evaluations), or
+    /// `None` where the window search must decide.
+    ///
+    /// The stepped foot is the window's nearest point when the foot
+    /// condition `f(s) = (p(s) - q) . T(s)` is increasing over the whole
+    /// window: then it has one root there. `f' = 1 - kappa d` with `d` the
+    /// lateral offset, and `|d| <= |q - foot| + span` over a window of
+    /// `span` metres, so `kappa_max (|q - foot| + span) < 1` (with
+    /// `kappa_max` over the window's segments, all of one driving
+    /// direction: a cusp turns the tangent) is sufficient. Past an end of an
+    /// open path, outside the window, or without convergence the window
+    /// search runs instead.
+    fn step_foot<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        driving: Option<Direction>,
+    ) -> Option<(Cursor<T>, PathPoint<T>)> {
+        if !self.foot_valid {
+            return None;
+        }
+        let (back, ahead) = (self.config.window_back, self.config.window_ahead);
+        let span = back + ahead;
+        if path.is_closed() && span >= path.length() {
+            return None;
+        }
+        let here = self.cursor.segment();
+        let dir = path.placed_at(here).direction;
+        if driving.is_some_and(|d| d != dir) {
+            return None;
+        }
+        let kmax = window_curvature(path, here, self.cursor.offset(), back, ahead, dir)?;
+        let mut cur = self.cursor;
+        let mut p = self.foot;
+        let mut moved = T::ZERO;
+        let tol = foot_tolerance(pose.x, pose.y);
+        let mut converged = false;
+        for k in 0..=NEWTON_STEPS {
+            let along = p.along_offset(pose.x, pose.y);
+            let lat = p.lateral_offset(pose.x, pose.y);
+            let scale = T::ONE - p.curvature * lat;
+            // Also refuses NaN.
+            if !scale.is_finite() || scale <= T::HALF {
+                return None;
+            }
+            let step = along / scale;
+            if step.abs() <= tol {
+                converged = kmax * (lat.abs() + span) < T::ONE;
+                break;
+            }
+            if k == NEWTON_STEPS {
+                break;
+            }
+            moved += step;
+            if moved < -back || moved > ahead {
+                return None;
+            }
+            let (next, travel) = cur.moved(path, step);
+            if travel != Travel::Within {
+                return None;
+            }
+            cur = next;
+            p = self.stepper.near_point(path, cur.segment(), cur.offset());
+        }
+        if converged {
+            Some((cur, p))
+        } else {
+            None
         }
     }
 
@@ -675,6 +815,60 @@ fn beyond_cusp<T: Real, const N: usize>(path: &Path<T, N>, foot: &Foot<T>, along
         None
     };
     other.is_some_and(|o| path.placed_at(o).direction != here)
+}
+
+/// The largest `|curvature|` over the segments the window from `back`
+/// metres behind `offset` into segment `here` to `ahead` metres beyond it
+/// touches, or `None` if one of them has another driving direction than
+/// `dir` or the window spans more than half of [`MAX_WINDOW_SEGMENTS`] on a
+/// side (the window search cuts it there).
+fn window_curvature<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    here: usize,
+    offset: T,
+    back: T,
+    ahead: T,
+    dir: Direction,
+) -> Option<T> {
+    let bend = |i: usize| {
+        let p = path.placed_at(i);
+        let end = p.kappa0 + p.sigma * path.segment_length(i);
+        p.kappa0.abs().max(end.abs())
+    };
+    let mut kmax = bend(here);
+    // Forwards.
+    let mut seg = here;
+    let mut rest = offset + ahead - path.segment_length(here);
+    let mut k = 0;
+    while rest > T::ZERO {
+        let Some(n) = next_segment(path, seg) else {
+            break;
+        };
+        k += 1;
+        if k >= HALF_WINDOW || path.placed_at(n).direction != dir {
+            return None;
+        }
+        seg = n;
+        kmax = kmax.max(bend(seg));
+        rest -= path.segment_length(seg);
+    }
+    // Backwards.
+    let mut seg = here;
+    let mut rest = back - offset;
+    let mut k = 0;
+    while rest > T::ZERO {
+        let Some(p) = previous_segment(path, seg) else {
+            break;
+        };
+        k += 1;
+        if k >= HALF_WINDOW || path.placed_at(p).direction != dir {
+            return None;
+        }
+        seg = p;
+        kmax = kmax.max(bend(seg));
+        rest -= path.segment_length(seg);
+    }
+    Some(kmax)
 }
 
 /// Nearest point on the whole path by distance alone.
