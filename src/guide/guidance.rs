@@ -73,6 +73,7 @@ use crate::guide::cycle::{Command, Fix, GuidanceInput, GuidanceStatus};
 use crate::guide::supervisor::{FixMonitor, Mode, SupervisorConfig, Verdict};
 use crate::num::real::{c, Real};
 use crate::path::anchored::Path;
+use crate::path::cursor::Cursor;
 use crate::path::pose::{Direction, PathPoint, Pose};
 use crate::steer::law::{SteerError, SteeringInput, SteeringLaw};
 use crate::steer::limits::{Limited, SteerLimiter};
@@ -179,15 +180,32 @@ fn eval_on_leg<T: Real, const N: usize>(path: &Path<T, N>, leg: &Leg<T>, s: T) -
     path.eval_in(i, u.clamp_to(T::ZERO, path.segment_length(i)))
 }
 
-/// The leg point at station `s`, continued along the tangent past its
-/// ends, shifted `left` metres along the path's left normal there.
-fn extended_point<T: Real, const N: usize>(
+/// The station of the tracker's foot for the leg: exactly the leg's end
+/// (start) when the foot sticks to it, so that `on_leg_at` continues along
+/// the tangent beyond it.
+fn foot_station<T: Real, const N: usize>(
     path: &Path<T, N>,
     leg: &Leg<T>,
-    s: T,
-    left: T,
-) -> (T, T) {
-    let p = eval_on_leg(path, leg, s);
+    t: &Tracking<T>,
+    foot: Cursor<T>,
+) -> T {
+    if !leg.bounded {
+        return t.foot.station;
+    }
+    let (seg, u) = (foot.segment(), foot.offset());
+    if seg == leg.last && u >= path.segment_length(seg) {
+        leg.end
+    } else if seg == leg.first && u <= T::ZERO {
+        leg.start
+    } else {
+        t.foot.station
+    }
+}
+
+/// The leg point at station `s` (`p`, evaluated at `s` clamped onto the
+/// leg), continued along the tangent past its ends, shifted `left` metres
+/// along the path's left normal there.
+fn extended_from<T: Real>(leg: &Leg<T>, p: PathPoint<T>, s: T, left: T) -> (T, T) {
     let beyond = if leg.bounded {
         s - clamp_on(leg, s)
     } else {
@@ -202,7 +220,7 @@ fn extended_point<T: Real, const N: usize>(
 }
 
 /// Projects `(qx, qy)` with travel heading `(sin, cos)` onto the leg,
-/// starting from station `guess`.
+/// starting from station `guess`, evaluating by the closed form.
 fn project<T: Real, const N: usize>(
     path: &Path<T, N>,
     leg: &Leg<T>,
@@ -210,9 +228,21 @@ fn project<T: Real, const N: usize>(
     q: (T, T),
     travel: (T, T),
 ) -> OnLeg<T> {
+    project_with(leg, guess, q, travel, |s| eval_on_leg(path, leg, s))
+}
+
+/// As [`project`], evaluating leg points with `eval` (a station already
+/// clamped onto the leg in, the path point there out).
+fn project_with<T: Real>(
+    leg: &Leg<T>,
+    guess: T,
+    q: (T, T),
+    travel: (T, T),
+    mut eval: impl FnMut(T) -> PathPoint<T>,
+) -> OnLeg<T> {
     let (qx, qy) = q;
     let mut s = clamp_on(leg, guess);
-    let mut p = eval_on_leg(path, leg, s);
+    let mut p = eval(s);
     for _ in 0..PROJECTION_STEPS {
         let along = p.along_offset(qx, qy);
         let lat = p.lateral_offset(qx, qy);
@@ -225,8 +255,16 @@ fn project<T: Real, const N: usize>(
             break;
         }
         s = next;
-        p = eval_on_leg(path, leg, s);
+        p = eval(s);
     }
+    on_leg_at(leg, s, p, q, travel)
+}
+
+/// The leg point `p` at station `s` as the projection of `q` (travel
+/// heading `(sin, cos)`): continued along the tangent when `q` lies beyond
+/// a leg end (`s` at the end).
+fn on_leg_at<T: Real>(leg: &Leg<T>, s: T, p: PathPoint<T>, q: (T, T), travel: (T, T)) -> OnLeg<T> {
+    let (qx, qy) = q;
     let along = p.along_offset(qx, qy);
     let at_end =
         leg.bounded && ((s >= leg.end && along > T::ZERO) || (s <= leg.start && along < T::ZERO));
@@ -521,14 +559,15 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             }
         };
         let on_leg = t.foot.segment >= leg.first && t.foot.segment <= leg.last;
-        let guess = if on_leg { t.station } else { self.station };
-        let mut cp = project(
-            path,
-            &leg,
-            guess,
-            (f.x, f.y),
-            Self::travel(f.heading, leg.direction),
-        );
+        let travel = Self::travel(f.heading, leg.direction);
+        let mut cp = if on_leg {
+            // The tracker's foot is the projection onto the leg: one
+            // projection per cycle.
+            let s = foot_station(path, &leg, &t, self.tracker.cursor());
+            on_leg_at(&leg, s, t.foot, (f.x, f.y), travel)
+        } else {
+            project(path, &leg, self.station, (f.x, f.y), travel)
+        };
         // Leaving the leg at its end: onto the next leg, at once if it has
         // the same direction (the seam of a loop), after a stop at a cusp.
         if leg.bounded && cp.station >= leg.end - self.config.cusp_tolerance {
@@ -588,20 +627,27 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let u_cp = sign * self.vehicle.control_point();
         let b = self.law.reference_point(self.vehicle.wheelbase());
         let shift = b - u_cp;
+        let (first, last) = (leg.first, leg.last);
         let reference = if shift == T::ZERO {
             cp
         } else {
             let q = (f.x + shift * tc, f.y + shift * ts);
+            // Along the travel heading, projected: shift cos(heading error).
             let (_, cos_e) = cp.heading_error.sin_cos();
-            project(path, &leg, cp.station + shift * cos_e, q, travel)
+            let tracker = &mut self.tracker;
+            project_with(&leg, cp.station + shift * cos_e, q, travel, |s| {
+                tracker.point_near(path, s, first, last, false)
+            })
         };
         let speed = f.speed.abs();
         let look = self.law.lookahead(speed);
         let goal = if look > T::ZERO {
             let at = cp.station + (look - u_cp).max(T::ZERO);
-            let kappa_goal = eval_on_leg(path, &leg, at).curvature;
-            let shift = rear_axle_offset(kappa_goal, u_cp);
-            let (gx, gy) = extended_point(path, &leg, at, shift);
+            let p = self
+                .tracker
+                .point_near(path, clamp_on(&leg, at), first, last, true);
+            let shift = rear_axle_offset(p.curvature, u_cp);
+            let (gx, gy) = extended_from(&leg, p, at, shift);
             let rx = f.x - u_cp * tc;
             let ry = f.y - u_cp * ts;
             let (dx, dy) = (gx - rx, gy - ry);
@@ -612,7 +658,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         // Feedforward taken the actuator's lag ahead (Vehicle::with_steer_lag).
         let preview = speed * self.vehicle.steer_lag();
         let ahead = if preview > T::ZERO {
-            eval_on_leg(path, &leg, reference.station + preview)
+            let at = clamp_on(&leg, reference.station + preview);
+            self.tracker.point_near(path, at, first, last, false)
         } else {
             reference.point
         };

@@ -180,6 +180,9 @@ impl<T: Real> Base<T> {
     /// below the tolerance (see the module docs); `false` if `MAX_TERMS`
     /// are not enough for that.
     fn fill(&mut self, reach: T) -> bool {
+        if self.sigma == T::ZERO {
+            return self.fill_arc(reach);
+        }
         let one = Cplx::new(T::ONE, T::ZERO);
         let zero = Cplx::new(T::ZERO, T::ZERO);
         let (k, s) = (self.kappa, self.sigma);
@@ -214,9 +217,47 @@ impl<T: Real> Base<T> {
         false
     }
 
+    /// On a line or an arc (`sigma = 0`) the series are those of `cos` and
+    /// `sin` in `theta = k h`: `E = (1 - z B, theta A)` and `P = h (A, theta B)`
+    /// with `z = theta^2`, `A = sum_j (-z)^j / (2j + 1)!` and
+    /// `B = sum_j (-z)^j / (2j + 2)!`, real polynomials in `z` kept as
+    /// `p_j = (a_j, b_j)`, cut where `|k| r`'s term falls below the
+    /// tolerance. On a line `theta = 0`: one term, exact.
+    fn fill_arc(&mut self, reach: T) -> bool {
+        let tol = series_tolerance::<T>();
+        let t2 = {
+            let t = self.kappa.abs() * reach;
+            t * t
+        };
+        let (mut a, mut b) = (T::ONE, T::HALF);
+        // |theta|^(2j) / (2j + 1)! at the reach.
+        let mut w = T::ONE;
+        for j in 0..MAX_TERMS {
+            if let Some(pj) = self.p.get_mut(j) {
+                *pj = Cplx::new(a, b);
+            }
+            let n = T::from_u32(2 * j as u32);
+            // a_(j+1) = -a_j / ((2j + 2)(2j + 3)), b_(j+1) = -b_j / ((2j + 3)(2j + 4)).
+            let r = T::ONE / ((n + c(2.0)) * (n + c(3.0)));
+            let r2 = T::ONE / ((n + c(3.0)) * (n + c(4.0)));
+            a = -a * r;
+            b = -b * r2;
+            w = w * t2 * r;
+            if w <= tol {
+                self.terms = j + 1;
+                return true;
+            }
+        }
+        self.terms = MAX_TERMS;
+        false
+    }
+
     /// Tangent and displacement `h` metres from the base, in the base's frame.
     #[inline]
     fn series(&self, h: T) -> (Cplx<T>, Cplx<T>) {
+        if self.sigma == T::ZERO {
+            return self.series_arc(h);
+        }
         let n = self.terms.min(MAX_TERMS);
         // Horner for R and its derivative together.
         let mut r = Cplx::new(T::ZERO, T::ZERO);
@@ -227,6 +268,21 @@ impl<T: Real> Base<T> {
         }
         let e = Cplx::new(r.re + h * d.re, r.im + h * d.im);
         (e, r.scale(h))
+    }
+
+    /// [`Base::series`] on a line or an arc (see [`Base::fill_arc`]).
+    #[inline]
+    fn series_arc(&self, h: T) -> (Cplx<T>, Cplx<T>) {
+        let theta = self.kappa * h;
+        let z = theta * theta;
+        let n = self.terms.min(MAX_TERMS);
+        let (mut a, mut b) = (T::ZERO, T::ZERO);
+        for pj in self.p.iter().take(n).rev() {
+            a = a * z + pj.re;
+            b = b * z + pj.im;
+        }
+        let e = Cplx::new(T::ONE - z * b, theta * a);
+        (e, Cplx::new(h * a, h * theta * b))
     }
 
     /// The path point `u` metres into the base's segment (the caller checks

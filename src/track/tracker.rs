@@ -272,6 +272,63 @@ impl<T: Real> Tracker<T> {
         self.cursor
     }
 
+    /// The path point `distance` metres beyond the last good foot point
+    /// (behind it if negative): a lookahead query, clamped at the ends of an
+    /// open path and wrapped on a closed one, as [`Cursor::ahead`].
+    ///
+    /// Evaluated by a series step from an exact base near the foot or near
+    /// the last lookahead (re-anchored when neither reaches; see
+    /// `track/foot.rs`), so it agrees with the closed form of
+    /// [`Path::at`] to the rounding of `T`; `&mut self` because the base is
+    /// kept for the next call.
+    ///
+    /// # Errors
+    /// [`TrackError::NonFinite`] if `distance` is NaN or infinite; nothing
+    /// changes.
+    pub fn ahead<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        distance: T,
+    ) -> Result<PathPoint<T>, TrackError> {
+        if !distance.is_finite() {
+            return Err(TrackError::NonFinite);
+        }
+        let (to, _) = moved_by(path, self.cursor, distance);
+        Ok(self.stepper.far_point(path, to.segment(), to.offset()))
+    }
+
+    /// The path point at `station` (metres, near the last foot point),
+    /// restricted to segments `first..=last` (a run of one driving
+    /// direction; the point sticks to its ends), by a series step from the
+    /// base near the foot (`far`: the base near the lookahead).
+    ///
+    /// For the guidance's reference point, goal and preview: one projection
+    /// per cycle (the tracker's), the rest stepped from its foot.
+    pub(crate) fn point_near<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        station: T,
+        first: usize,
+        last: usize,
+        far: bool,
+    ) -> PathPoint<T> {
+        let from = self.cursor;
+        let ds = station - from.station(path);
+        let (to, _) = moved_by(path, from, if ds.is_finite() { ds } else { T::ZERO });
+        let (seg, u) = if to.segment() > last {
+            (last, path.segment_length(last))
+        } else if to.segment() < first {
+            (first, T::ZERO)
+        } else {
+            (to.segment(), to.offset())
+        };
+        if far {
+            self.stepper.far_point(path, seg, u)
+        } else {
+            self.stepper.near_point(path, seg, u)
+        }
+    }
+
     /// Forgets the station: the next update searches the whole path.
     pub fn reset(&mut self) {
         self.acquired = false;
@@ -503,7 +560,7 @@ impl<T: Real> Tracker<T> {
             self.foot = point;
             self.foot_valid = true;
         }
-        let (to, _) = cursor.moved(path, self.config.lookahead);
+        let (to, _) = moved_by(path, cursor, self.config.lookahead);
         let ahead = self.stepper.far_point(path, to.segment(), to.offset());
         Tracking {
             station,
@@ -518,9 +575,10 @@ impl<T: Real> Tracker<T> {
         }
     }
 
-    /// The foot by Newton on the foot condition, stepped from the foot of
-    /// the last cycle (at most [`NEWTON_STEPS`] series evaluations), or
-    /// `None` where the window search must decide.
+    /// The foot by Newton on the foot condition (with a curvature
+    /// correction that makes it exact to fourth order on a circle), stepped
+    /// from the foot of the last cycle (at most [`NEWTON_STEPS`] series
+    /// evaluations), or `None` where the window search must decide.
     ///
     /// The stepped foot is the window's nearest point when the foot
     /// condition `f(s) = (p(s) - q) . T(s)` is increasing over the whole
@@ -564,8 +622,15 @@ impl<T: Real> Tracker<T> {
             if !scale.is_finite() || scale <= T::HALF {
                 return None;
             }
-            let step = along / scale;
-            if step.abs() <= tol {
+            // Newton's step `along / scale`, corrected for the curvature:
+            // on a circle the foot is `atan(x) / kappa` away with
+            // `x = kappa along / scale`, and `atan(x) / x = 1 - x^2 / 3 + ...`
+            // (exact to x^4: one evaluation then meets the tolerance on arcs
+            // and on the gentle clothoids of a field).
+            let newton = along / scale;
+            let x = p.curvature * newton;
+            let step = newton * (T::ONE - x * x * c(1.0 / 3.0));
+            if newton.abs() <= tol {
                 converged = kmax * (lat.abs() + span) < T::ONE;
                 break;
             }
@@ -576,7 +641,7 @@ impl<T: Real> Tracker<T> {
             if moved < -back || moved > ahead {
                 return None;
             }
-            let (next, travel) = cur.moved(path, step);
+            let (next, travel) = moved_by(path, cur, step);
             if travel != Travel::Within {
                 return None;
             }
@@ -775,6 +840,21 @@ fn check_input<T: Real>(pose: &Pose<T>, offset: T) -> Result<(), TrackError> {
         return Err(TrackError::OutOfRange);
     }
     Ok(())
+}
+
+/// `cursor` moved by `ds` metres (finite): within its segment by one
+/// addition, across joints by [`Cursor::moved`].
+#[inline]
+fn moved_by<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    cursor: Cursor<T>,
+    ds: T,
+) -> (Cursor<T>, Travel) {
+    let u = cursor.offset() + ds;
+    if u >= T::ZERO && u <= path.segment_length(cursor.segment()) {
+        return (Cursor::on(cursor.segment(), u), Travel::Within);
+    }
+    cursor.moved(path, ds)
 }
 
 /// Segments searched on each side of the foot (its own counts on both).
