@@ -79,7 +79,7 @@ use crate::steer::law::{SteerError, SteeringInput, SteeringLaw};
 use crate::steer::limits::{Limited, SteerLimiter};
 use crate::steer::speed::speed_cap;
 use crate::steer::vehicle::{rear_axle_offset, Vehicle};
-use crate::track::tracker::{TrackStatus, Tracker, TrackerConfig, Tracking};
+use crate::track::tracker::{Acquisition, TrackStatus, Tracker, TrackerConfig, Tracking};
 
 /// Consecutive cycles with `now` going backwards after which the guidance
 /// takes the new time base and starts again in `Acquiring`.
@@ -471,7 +471,11 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             (Mode::Lost, Verdict::Usable(f) | Verdict::Jumped(f))
                 if self.monitor.agreeing >= self.config.confirm_fixes =>
             {
-                self.tracker.reset();
+                // Once: a whole-path search spread over cycles is under way
+                // while the tracker is not acquired.
+                if self.tracker.is_acquired() {
+                    self.tracker.reset();
+                }
                 self.law.reset();
                 self.leg = None;
                 self.acquire(path, f, dt, Mode::Lost)
@@ -488,7 +492,17 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         dt: T,
         fail: Mode<T>,
     ) -> Command<T> {
-        self.tracker.reset();
+        // The whole-path search, a bounded part per cycle.
+        if !self.tracker.is_acquired() {
+            let pose = Pose::new(f.x, f.y, f.heading);
+            match self.tracker.acquire_step(path, &pose) {
+                Ok(Acquisition::Done(t)) if t.status != TrackStatus::Lost => {}
+                _ => {
+                    self.mode = fail;
+                    return self.straighten(fail.status(), dt);
+                }
+            }
+        }
         match self.locate(path, &f) {
             Some(sit) if self.within_limits(&sit.cp) => {
                 self.mode = Mode::Following;
@@ -498,6 +512,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                 self.drive(path, f, sit, dt)
             }
             _ => {
+                // Search the whole path again next time.
+                self.tracker.reset();
                 self.mode = fail;
                 self.straighten(fail.status(), dt)
             }

@@ -12,5 +12,6 @@ pub(crate) mod tracker;
 pub use error::TrackError;
 pub use foot::{MAX_REACH, MAX_TERMS, MAX_TURN};
 pub use tracker::{
-    TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS, NEWTON_STEPS,
+    Acquisition, TrackStatus, Tracker, TrackerConfig, Tracking, ACQUIRE_PIECE, ACQUIRE_WORK,
+    MAX_WINDOW_SEGMENTS, NEWTON_STEPS,
 };

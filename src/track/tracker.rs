@@ -45,6 +45,56 @@ use crate::track::foot::Stepper;
 /// carried from the last cycle and costs none).
 pub const NEWTON_STEPS: usize = 4;
 
+/// Work one call of [`Tracker::acquire_step`] may do, in units: 1 per
+/// segment ruled out by its bounding circle, 4 per line or arc projected,
+/// 40 (all of a call) per clothoid piece projected (at most [`ACQUIRE_PIECE`] metres and a
+/// turn of pi/4). A sweep therefore takes at most
+/// `ceil(4 lines_and_arcs / 40) + clothoid_pieces + 1` calls (every
+/// segment a candidate) and at least `ceil(n / 40) + 1` for `n` segments
+/// (all but a few ruled out), the last call settling on the best foot.
+pub const ACQUIRE_WORK: u32 = 40;
+/// Longest clothoid piece one unit of acquisition work projects onto, metres.
+pub const ACQUIRE_PIECE: f64 = 4.0;
+
+/// What one call of [`Tracker::acquire_step`] did.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Acquisition<T> {
+    /// Still sweeping the path: `examined` of `segments` segments done.
+    Searching {
+        /// Segments examined so far.
+        examined: usize,
+        /// Segments in the path.
+        segments: usize,
+    },
+    /// The sweep is over: the tracking state at the best foot (its status
+    /// says whether the path was found within `lost_distance`).
+    Done(Tracking<T>),
+}
+
+/// A whole-path search in progress.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct Sweep<T> {
+    running: bool,
+    /// The next segment to examine, and how far into it (clothoid pieces).
+    next: usize,
+    from: T,
+    /// The best score so far (metres) and its foot.
+    best: Option<(T, Foot<T>)>,
+}
+
+impl<T: Real> Sweep<T> {
+    fn idle() -> Self {
+        Self {
+            running: false,
+            next: 0,
+            from: T::ZERO,
+            best: None,
+        }
+    }
+}
+
 /// The Newton iteration on the foot condition stops when its step is below
 /// this, metres (`1e-6` in `f32`, `1e-12` in `f64`), plus the resolution of
 /// the coordinates in `T` (`4 epsilon (|x| + |y|)`: 6e-5 m at 1 km in `f32`,
@@ -224,6 +274,8 @@ pub struct Tracker<T> {
     foot_valid: bool,
     /// Exact bases near the foot and the lookahead, and the series around them.
     stepper: Stepper<T>,
+    /// A whole-path search spread over calls ([`Tracker::acquire_step`]).
+    sweep: Sweep<T>,
 }
 
 impl<T: Real> Tracker<T> {
@@ -241,6 +293,7 @@ impl<T: Real> Tracker<T> {
             foot: PathPoint::default(),
             foot_valid: false,
             stepper: Stepper::default(),
+            sweep: Sweep::idle(),
         })
     }
 
@@ -333,6 +386,7 @@ impl<T: Real> Tracker<T> {
     pub fn reset(&mut self) {
         self.acquired = false;
         self.foot_valid = false;
+        self.sweep = Sweep::idle();
     }
 
     /// Takes a known position on the path (e.g. resuming a pass at a
@@ -442,6 +496,135 @@ impl<T: Real> Tracker<T> {
         pose: &Pose<T>,
     ) -> Result<Tracking<T>, TrackError> {
         self.acquire_driving(path, pose, None)
+    }
+
+    /// One bounded part of a whole-path search ([`ACQUIRE_WORK`] units of
+    /// work): the acquisition of [`Tracker::acquire`], spread over as many
+    /// calls as the path needs, so that no call takes much longer than a
+    /// tracker update. Returns [`Acquisition::Searching`] until the sweep
+    /// has examined every segment; the call after it (the same call, if the
+    /// sweep took at most half of it) settles on the best foot with its own
+    /// pose (as an update from there) and returns
+    /// [`Acquisition::Done`] (and the tracker is acquired if that foot is
+    /// within `lost_distance`). Once acquired, a call is an update.
+    ///
+    /// Each segment is scored against the pose of the call that examines it
+    /// (distance plus `heading_weight` times the heading error, as
+    /// [`Tracker::acquire`]): a vehicle should stand still, or nearly, while
+    /// the sweep runs (the guidance requests a stop while acquiring).
+    ///
+    /// # Errors
+    /// As [`Tracker::update`]; the search state is unchanged.
+    pub fn acquire_step<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+    ) -> Result<Acquisition<T>, TrackError> {
+        check_input(pose, T::ZERO)?;
+        if self.acquired {
+            return Ok(Acquisition::Done(self.locate(path, pose, None, T::ZERO)));
+        }
+        let mut sweep = if self.sweep.running {
+            self.sweep
+        } else {
+            Sweep::idle()
+        };
+        if !(sweep.running && sweep.next >= path.len()) {
+            // Sweeping; the call that finishes the sweep settles too if the
+            // sweep took at most half of its work (a short path: one call).
+            sweep.running = true;
+            let work = self.sweep_some(path, pose, &mut sweep);
+            self.sweep = sweep;
+            if sweep.next < path.len() || work > ACQUIRE_WORK / 2 {
+                return Ok(Acquisition::Searching {
+                    examined: sweep.next,
+                    segments: path.len(),
+                });
+            }
+        }
+        self.sweep = Sweep::idle();
+        let Some((_, best)) = sweep.best else {
+            return Ok(Acquisition::Searching {
+                examined: 0,
+                segments: path.len(),
+            });
+        };
+        // Settle with this call's pose: Newton from the best foot (the
+        // window search where that is not sure to find the window's nearest).
+        let before = (self.cursor, self.foot, self.foot_valid);
+        self.cursor = Cursor::on(best.segment, best.offset);
+        self.foot = self.stepper.near_point(path, best.segment, best.offset);
+        self.foot_valid = true;
+        let result = self.locate(path, pose, None, T::ZERO);
+        if result.status == TrackStatus::Lost {
+            (self.cursor, self.foot, self.foot_valid) = before;
+        } else {
+            self.acquired = true;
+        }
+        Ok(Acquisition::Done(result))
+    }
+
+    /// Examines segments from where `sweep` stands until the work of one
+    /// call is spent; returns the work done.
+    fn sweep_some<const N: usize>(
+        &self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        sweep: &mut Sweep<T>,
+    ) -> u32 {
+        let w = self.config.heading_weight;
+        let (hs, hc) = pose.heading.sin_cos();
+        let quarter: T = c(core::f64::consts::FRAC_PI_4);
+        let piece: T = c(ACQUIRE_PIECE);
+        let mut work = 0u32;
+        // Each pass of the loop spends at least one unit: bounded.
+        for _ in 0..ACQUIRE_WORK {
+            if work >= ACQUIRE_WORK || sweep.next >= path.len() {
+                return work;
+            }
+            let i = sweep.next;
+            let pl = *path.placed_at(i);
+            let len = path.segment_length(i);
+            let lower = lower_bound(path, i, pose.x, pose.y);
+            if sweep.from == T::ZERO && sweep.best.is_some_and(|(b, _)| lower > b) {
+                work += 1;
+                sweep.next += 1;
+                continue;
+            }
+            // Lines and arcs whole; clothoids a piece at a time.
+            let (lo, hi) = if pl.sigma == T::ZERO {
+                work += 4;
+                (T::ZERO, len)
+            } else {
+                work += ACQUIRE_WORK;
+                let bend = pl.kappa0.abs().max((pl.kappa0 + pl.sigma * len).abs());
+                let span = if bend * piece > quarter {
+                    quarter / bend
+                } else {
+                    piece
+                };
+                (sweep.from, (sweep.from + span).min(len))
+            };
+            let f = nearest_on_segment(path, i, lo, hi, pose.x, pose.y);
+            let mut score = f.dist2.sqrt();
+            if w > T::ZERO {
+                let p = path.eval_in(i, f.offset);
+                let sign = p.direction.sign::<T>();
+                let cross = (p.cos * hs - p.sin * hc) * sign;
+                let dot = (p.cos * hc + p.sin * hs) * sign;
+                score += w * cross.atan2(dot).abs();
+            }
+            if sweep.best.is_none_or(|(b, _)| score < b) {
+                sweep.best = Some((score, f));
+            }
+            if hi >= len {
+                sweep.next += 1;
+                sweep.from = T::ZERO;
+            } else {
+                sweep.from = hi;
+            }
+        }
+        work
     }
 
     /// Acquisition preferring segments driven in `driving`.

@@ -11,9 +11,9 @@
 
 use cortex_m_semihosting::hprintln;
 use kappaline::{
-    Continuity, Fix, FrenetFeedback, Guidance, GuidanceInput, GuidanceStatus, Path, PathBuilder,
-    Pose, PurePursuit, Real, Segment, Stanley, SteeringLaw, SupervisorConfig, TrackStatus, Tracker,
-    TrackerConfig, Vehicle,
+    Acquisition, Continuity, Fix, FrenetFeedback, Guidance, GuidanceInput, GuidanceStatus, Path,
+    PathBuilder, Pose, PurePursuit, Real, Segment, Stanley, SteeringLaw, SupervisorConfig,
+    TrackStatus, Tracker, TrackerConfig, Vehicle,
 };
 
 use crate::meter::{Meter, Stats};
@@ -232,13 +232,17 @@ fn guidance<L: SteeringLaw<f32>>(m: &mut Meter, case: Case, law: L, label: &str)
             dt: DT,
         }
     };
-    // Into Following first (acquisition is measured on its own).
-    for i in 0..8 {
-        let _ = g.step(&path, &input(i));
+    // Into Following first (acquisition, spread over cycles, is measured on
+    // its own), then a few cycles more.
+    let mut first = 0;
+    while g.status() != GuidanceStatus::Following || first < 8 {
+        check(first < 64, "guidance acquires");
+        let _ = g.step(&path, &input(first));
+        first += 1;
     }
     let mut counts = [0u32; CALLS];
     for (i, c) in counts.iter_mut().enumerate() {
-        let inp = input(i + 8);
+        let inp = input(i + first);
         let (n, cmd) = m.instructions(|| g.step(&path, &inp));
         *c = n;
         check(cmd.curvature.is_finite(), "command finite");
@@ -253,20 +257,62 @@ fn guidance<L: SteeringLaw<f32>>(m: &mut Meter, case: Case, law: L, label: &str)
 #[inline(never)]
 fn acquisition(m: &mut Meter, case: Case) {
     let path = case.path();
-    let mut t = Tracker::new(TrackerConfig::tractor()).unwrap_or_else(|_| fail("cfg"));
     let (pose, s) = pose_at(&path, 40);
+    let mut t = Tracker::new(TrackerConfig::tractor()).unwrap_or_else(|_| fail("cfg"));
     let (n, r) = m.instructions(|| t.acquire(&path, &pose));
     match r {
         Ok(r) => check((r.station - s).abs() < 5e-4, "acquired station"),
         Err(_) => fail("acquire"),
     }
     report(
-        "acquisition (one call)",
+        "acquisition, whole path in one call",
         case.name(),
         &Stats {
             min: n,
             median: n,
             max: n,
+        },
+    );
+    spread(m, &path, &pose, s, case.name());
+}
+
+/// The spread acquisition: calls of `Tracker::acquire_step` until done;
+/// min / median / max per call and the number of calls.
+pub fn spread<const N: usize>(
+    m: &mut Meter,
+    path: &Path<f32, N>,
+    pose: &Pose<f32>,
+    s: f32,
+    label: &str,
+) {
+    let mut t = Tracker::new(TrackerConfig::tractor()).unwrap_or_else(|_| fail("cfg"));
+    let mut counts = [0u32; 1024];
+    let mut calls = 0usize;
+    loop {
+        let (n, r) = m.instructions(|| t.acquire_step(path, pose));
+        if let Some(c) = counts.get_mut(calls) {
+            *c = n;
+        }
+        calls += 1;
+        match r {
+            Ok(Acquisition::Searching { .. }) if calls < counts.len() => {}
+            Ok(Acquisition::Done(r)) => {
+                check((r.station - s).abs() < 5e-4, "spread acquisition station");
+                break;
+            }
+            _ => fail("spread acquisition"),
+        }
+    }
+    let st = Stats::of(counts.get_mut(..calls).unwrap_or(&mut []));
+    report("acquisition, spread: one call", label, &st);
+    let c = calls as u32;
+    report(
+        "acquisition, spread: calls",
+        label,
+        &Stats {
+            min: c,
+            median: c,
+            max: c,
         },
     );
 }

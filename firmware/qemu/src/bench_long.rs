@@ -50,7 +50,7 @@ mod long {
         let (n, r) = m.instructions(|| t.acquire(&path, &p0));
         check(r.is_ok(), "acquire");
         report(
-            "acquisition (one call)",
+            "acquisition, whole path in one call",
             label,
             &Stats {
                 min: n,
@@ -58,6 +58,8 @@ mod long {
                 max: n,
             },
         );
+        let (q, s) = pose_at(&path, 40);
+        crate::bench::spread(m, &path, &q, s, label);
         let mut counts = [0u32; CALLS];
         for (i, c) in counts.iter_mut().enumerate() {
             let (pose, s) = pose_at(&path, i + 1);
