@@ -23,8 +23,8 @@
 //! path: no evaluation at all) or by the closed form of
 //! `crate::path::segment` from that anchor. A point is stepped only from a
 //! base on its own segment and within the base's **reach**: at most
-//! [`MAX_REACH`] metres away (on a line: the whole segment, where the series
-//! is exact) and no farther than where the tangent has turned by
+//! [`MAX_REACH`] metres away ([`CLOTHOID_REACH`] on a clothoid; on a line
+//! the whole segment, where the series is exact) and no farther than where the tangent has turned by
 //! [`MAX_TURN`] radians. Outside the reach, and whenever the point lies on
 //! another segment (a joint is crossed), a new base is made there. So no
 //! point is the sum of earlier steps, and the error does not depend on the
@@ -62,6 +62,8 @@ use crate::path::segment::local_pose;
 
 /// Farthest a point is stepped from its base, metres.
 pub const MAX_REACH: f64 = 8.0;
+/// Farthest a point is stepped from its base on a clothoid, metres.
+pub const CLOTHOID_REACH: f64 = 2.0;
 /// Largest turn of the tangent between a base and a point stepped from it,
 /// radians.
 pub const MAX_TURN: f64 = 0.5;
@@ -311,10 +313,16 @@ impl<T: Real> Base<T> {
 /// `MAX_REACH`, less where the turn over it would exceed `MAX_TURN`;
 /// unbounded on a line (the series is exact there).
 fn reach_of<T: Real>(kappa: T, sigma: T) -> T {
-    let max: T = c(MAX_REACH);
     if kappa == T::ZERO && sigma == T::ZERO {
         return c(MAX_REACH * 1e12);
     }
+    // A clothoid's series is complex and twice the degree for a turn from
+    // the sharpness: a shorter reach keeps it to a few terms.
+    let max: T = if sigma == T::ZERO {
+        c(MAX_REACH)
+    } else {
+        c(CLOTHOID_REACH)
+    };
     // |theta(h)| <= |kappa| h + |sigma| h^2 / 2 <= (|kappa| + |sigma| MAX_REACH / 2) h.
     let rate = kappa.abs() + sigma.abs() * max * T::HALF;
     let turn: T = c(MAX_TURN);
@@ -325,13 +333,16 @@ fn reach_of<T: Real>(kappa: T, sigma: T) -> T {
     }
 }
 
-/// Two bases (one around the foot, one around the lookahead) and the
+/// Three bases (around the foot, the lookahead and other points) and the
 /// stepping between them: the path point at any offset near either is a
 /// series step; elsewhere one of them is re-anchored there.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct Stepper<T> {
     near: Base<T>,
     far: Base<T>,
+    /// For other points near the foot (the guidance's reference point and
+    /// preview), so that they do not move the foot's base away.
+    spare: Base<T>,
 }
 
 impl<T: Real> Default for Stepper<T> {
@@ -339,6 +350,7 @@ impl<T: Real> Default for Stepper<T> {
         Self {
             near: Base::default(),
             far: Base::default(),
+            spare: Base::default(),
         }
     }
 }
@@ -353,7 +365,7 @@ impl<T: Real> Stepper<T> {
         seg: usize,
         u: T,
     ) -> PathPoint<T> {
-        Self::via(&mut self.near, &self.far, path, seg, u)
+        Self::via(&mut self.near, [&self.far, &self.spare], path, seg, u)
     }
 
     /// As [`Stepper::near_point`] for points away from the foot (the
@@ -364,12 +376,23 @@ impl<T: Real> Stepper<T> {
         seg: usize,
         u: T,
     ) -> PathPoint<T> {
-        Self::via(&mut self.far, &self.near, path, seg, u)
+        Self::via(&mut self.far, [&self.near, &self.spare], path, seg, u)
+    }
+
+    /// As [`Stepper::near_point`] for other points near the foot:
+    /// re-anchors the spare base only.
+    pub fn other_point<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        seg: usize,
+        u: T,
+    ) -> PathPoint<T> {
+        Self::via(&mut self.spare, [&self.near, &self.far], path, seg, u)
     }
 
     fn via<const N: usize>(
         mine: &mut Base<T>,
-        other: &Base<T>,
+        others: [&Base<T>; 2],
         path: &Path<T, N>,
         seg: usize,
         u: T,
@@ -379,8 +402,10 @@ impl<T: Real> Stepper<T> {
         if mine.covers(seg, u) {
             return mine.point(u, station, direction);
         }
-        if other.covers(seg, u) {
-            return other.point(u, station, direction);
+        for other in others {
+            if other.covers(seg, u) {
+                return other.point(u, station, direction);
+            }
         }
         // Re-anchor: at the segment's anchor if it reaches (no evaluation),
         // else here.

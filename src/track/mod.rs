@@ -10,7 +10,7 @@ pub(crate) mod foot;
 pub(crate) mod tracker;
 
 pub use error::TrackError;
-pub use foot::{MAX_REACH, MAX_TERMS, MAX_TURN};
+pub use foot::{CLOTHOID_REACH, MAX_REACH, MAX_TERMS, MAX_TURN};
 pub use tracker::{
     Acquisition, TrackStatus, Tracker, TrackerConfig, Tracking, ACQUIRE_PIECE, ACQUIRE_WORK,
     MAX_WINDOW_SEGMENTS, NEWTON_STEPS,

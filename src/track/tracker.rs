@@ -352,7 +352,7 @@ impl<T: Real> Tracker<T> {
 
     /// The path point at `station` (metres, near the last foot point),
     /// restricted to segments `first..=last` (a run of one driving
-    /// direction; the point sticks to its ends), by a series step from the
+    /// direction; the point sticks to its ends), by a series step from a
     /// base near the foot (`far`: the base near the lookahead).
     ///
     /// For the guidance's reference point, goal and preview: one projection
@@ -378,7 +378,7 @@ impl<T: Real> Tracker<T> {
         if far {
             self.stepper.far_point(path, seg, u)
         } else {
-            self.stepper.near_point(path, seg, u)
+            self.stepper.other_point(path, seg, u)
         }
     }
 
