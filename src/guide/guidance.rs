@@ -332,6 +332,8 @@ struct Situation<T> {
     leg: Leg<T>,
     cp: OnLeg<T>,
     tracking: Tracking<T>,
+    /// `(sin, cos)` of the fix's body heading (one `sin_cos` per cycle).
+    body: (T, T),
 }
 
 impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
@@ -538,9 +540,10 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             && cp.heading_error.abs() <= self.config.max_heading_error
     }
 
-    /// The travel heading's `(sin, cos)` on a leg of direction `dir`.
-    fn travel(heading: T, dir: Direction) -> (T, T) {
-        let (s, co) = heading.sin_cos();
+    /// The travel heading's `(sin, cos)` on a leg of direction `dir`, from
+    /// the body heading's `(sin, cos)`.
+    fn travel(body: (T, T), dir: Direction) -> (T, T) {
+        let (s, co) = body;
         match dir {
             Direction::Forward => (s, co),
             Direction::Reverse => (-s, -co),
@@ -575,7 +578,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             }
         };
         let on_leg = t.foot.segment >= leg.first && t.foot.segment <= leg.last;
-        let travel = Self::travel(f.heading, leg.direction);
+        let body = f.heading.sin_cos();
+        let travel = Self::travel(body, leg.direction);
         let mut cp = if on_leg {
             // The tracker's foot is the projection onto the leg: one
             // projection per cycle.
@@ -600,7 +604,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                         &leg,
                         leg.start,
                         (f.x, f.y),
-                        Self::travel(f.heading, leg.direction),
+                        Self::travel(body, leg.direction),
                     );
                 }
             }
@@ -618,7 +622,12 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             ahead: t.ahead,
             status: t.status,
         };
-        Some(Situation { leg, cp, tracking })
+        Some(Situation {
+            leg,
+            cp,
+            tracking,
+            body,
+        })
     }
 
     /// The law's command, limited, with the speed cap; or the end of path.
@@ -629,7 +638,12 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         sit: Situation<T>,
         dt: T,
     ) -> Command<T> {
-        let Situation { leg, cp, tracking } = sit;
+        let Situation {
+            leg,
+            cp,
+            tracking,
+            body,
+        } = sit;
         let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
         if last_leg && cp.station >= leg.end - self.config.end_tolerance {
             self.mode = Mode::EndOfPath;
@@ -638,7 +652,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             return cmd;
         }
         let sign = leg.direction.sign::<T>();
-        let travel = Self::travel(f.heading, leg.direction);
+        let travel = Self::travel(body, leg.direction);
         let (ts, tc) = travel;
         let u_cp = sign * self.vehicle.control_point();
         let b = self.law.reference_point(self.vehicle.wheelbase());
@@ -648,8 +662,9 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             cp
         } else {
             let q = (f.x + shift * tc, f.y + shift * ts);
-            // Along the travel heading, projected: shift cos(heading error).
-            let (_, cos_e) = cp.heading_error.sin_cos();
+            // Along the travel heading, projected: shift cos(heading error)
+            // (the dot product of the two unit vectors: no trigonometry).
+            let cos_e = cp.point.cos * tc + cp.point.sin * ts;
             let tracker = &mut self.tracker;
             project_with(&leg, cp.station + shift * cos_e, q, travel, |s| {
                 tracker.point_near(path, s, first, last, false)
