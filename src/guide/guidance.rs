@@ -334,6 +334,8 @@ struct Situation<T> {
     tracking: Tracking<T>,
     /// `(sin, cos)` of the fix's body heading (one `sin_cos` per cycle).
     body: (T, T),
+    /// `true` if `cp` is the tracker's foot (its lookahead then starts there).
+    from_foot: bool,
 }
 
 impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
@@ -580,6 +582,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let on_leg = t.foot.segment >= leg.first && t.foot.segment <= leg.last;
         let body = f.heading.sin_cos();
         let travel = Self::travel(body, leg.direction);
+        let mut from_foot = on_leg;
         let mut cp = if on_leg {
             // The tracker's foot is the projection onto the leg: one
             // projection per cycle.
@@ -599,6 +602,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                     // acquisition: once per leg change.
                     leg = leg_of(path, n);
                     self.law.reset();
+                    from_foot = false;
                     cp = project(
                         path,
                         &leg,
@@ -627,6 +631,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             cp,
             tracking,
             body,
+            from_foot,
         })
     }
 
@@ -643,6 +648,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             cp,
             tracking,
             body,
+            from_foot,
         } = sit;
         let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
         if last_leg && cp.station >= leg.end - self.config.end_tolerance {
@@ -662,11 +668,17 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             cp
         } else {
             let q = (f.x + shift * tc, f.y + shift * ts);
-            // Along the travel heading, projected: shift cos(heading error)
-            // (the dot product of the two unit vectors: no trigonometry).
-            let cos_e = cp.point.cos * tc + cp.point.sin * ts;
+            // The start: the foot of q on the circle of curvature at the
+            // control point's foot (exact on an arc to fourth order, as the
+            // tracker's step), so one evaluation usually settles it.
+            let p = cp.point;
+            let (a, b) = (p.along_offset(q.0, q.1), p.lateral_offset(q.0, q.1));
+            let scale = (T::ONE - p.curvature * b).max(c(0.2));
+            let newton = a / scale;
+            let x = p.curvature * newton;
+            let guess = cp.station + newton * (T::ONE - x * x * c(1.0 / 3.0));
             let tracker = &mut self.tracker;
-            project_with(&leg, cp.station + shift * cos_e, q, travel, |s| {
+            project_with(&leg, guess, q, travel, |s| {
                 tracker.point_near(path, s, first, last, false)
             })
         };
@@ -674,9 +686,20 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let look = self.law.lookahead(speed);
         let goal = if look > T::ZERO {
             let at = cp.station + (look - u_cp).max(T::ZERO);
-            let p = self
-                .tracker
-                .point_near(path, clamp_on(&leg, at), first, last, true);
+            let on = clamp_on(&leg, at);
+            // The tracker's lookahead is this point when the control point
+            // is the tracker's foot and the goal lies on the leg: reuse it.
+            let a = tracking.ahead;
+            let same = from_foot
+                && on == at
+                && a.segment >= first
+                && a.segment <= last
+                && (a.station - at).abs() <= T::EPSILON * c(16.0) * (T::ONE + at.abs());
+            let p = if same {
+                a
+            } else {
+                self.tracker.point_near(path, on, first, last, true)
+            };
             let shift = rear_axle_offset(p.curvature, u_cp);
             let (gx, gy) = extended_from(&leg, p, at, shift);
             let rx = f.x - u_cp * tc;
