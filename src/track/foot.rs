@@ -99,6 +99,9 @@ pub(crate) struct Base<T> {
     sin: T,
     kappa: T,
     sigma: T,
+    /// Heading of the base tangent, radians (one `atan2` per base), so a
+    /// stepped point's heading is `theta + k h + sigma h^2 / 2`.
+    theta: T,
     /// Coefficients in use, at least 1.
     terms: usize,
     /// Displacement coefficients `p_n = e_n / (n + 1)`: `P(h) = h R(h)`
@@ -122,6 +125,7 @@ impl<T: Real> Default for Base<T> {
             sin: T::ZERO,
             kappa: T::ZERO,
             sigma: T::ZERO,
+            theta: T::ZERO,
             terms: 1,
             p: [zero; MAX_TERMS],
             valid: false,
@@ -161,6 +165,7 @@ impl<T: Real> Base<T> {
             sin,
             kappa,
             sigma: pl.sigma,
+            theta: sin.atan2(cos),
             ..Self::default()
         };
         // Where the sharpness dominates, the series has twice the degree for
@@ -287,6 +292,14 @@ impl<T: Real> Base<T> {
         (e, Cplx::new(h * a, h * theta * b))
     }
 
+    /// The path heading `u` metres into the base's segment (the caller
+    /// checks [`Base::covers`]), radians, not wrapped: no trigonometry.
+    #[inline]
+    pub fn heading(&self, u: T) -> T {
+        let h = u - self.u0;
+        self.theta + h * (self.kappa + T::HALF * self.sigma * h)
+    }
+
     /// The path point `u` metres into the base's segment (the caller checks
     /// [`Base::covers`]); `station` is the segment's start station.
     pub fn point(&self, u: T, station: T, direction: crate::path::pose::Direction) -> PathPoint<T> {
@@ -377,6 +390,15 @@ impl<T: Real> Stepper<T> {
         u: T,
     ) -> PathPoint<T> {
         Self::via(&mut self.far, [&self.near, &self.spare], path, seg, u)
+    }
+
+    /// The path heading `u` metres into segment `seg` (radians, not
+    /// wrapped) if a base covers it, without trigonometry.
+    pub fn heading(&self, seg: usize, u: T) -> Option<T> {
+        [&self.near, &self.far, &self.spare]
+            .into_iter()
+            .find(|b| b.covers(seg, u))
+            .map(|b| b.heading(u))
     }
 
     /// As [`Stepper::near_point`] for other points near the foot:
