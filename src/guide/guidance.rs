@@ -425,6 +425,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         }
     }
 
+    #[inline(always)]
     fn cycle<const N: usize>(&mut self, path: &Path<T, N>, input: &GuidanceInput<T>) -> Command<T> {
         let (now, dt) = (input.now, input.dt);
         let time_ok = now.is_finite() && dt.is_finite() && dt > T::ZERO;
@@ -525,6 +526,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     }
 
     /// Steering along the path with a usable fix.
+    #[inline(always)]
     fn follow<const N: usize>(&mut self, path: &Path<T, N>, f: Fix<T>, dt: T) -> Command<T> {
         self.monitor.accept(f);
         self.speed = f.speed;
@@ -554,6 +556,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
 
     /// Tracker update and projection of the control point onto its leg
     /// (switching legs at a reached cusp). `None` if the tracker lost the path.
+    #[inline(always)]
     fn locate<const N: usize>(&mut self, path: &Path<T, N>, f: &Fix<T>) -> Option<Situation<T>> {
         let dir = self.leg.map(|l| l.direction).unwrap_or_default();
         let u_cp = dir.sign::<T>() * self.vehicle.control_point();
@@ -636,6 +639,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     }
 
     /// The law's command, limited, with the speed cap; or the end of path.
+    #[inline(always)]
     fn drive<const N: usize>(
         &mut self,
         path: &Path<T, N>,
@@ -745,6 +749,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         self.command(limited, limit, GuidanceStatus::Following, Some(tracking))
     }
 
+    #[inline(always)]
     fn command(
         &self,
         lim: Limited<T>,
