@@ -1179,3 +1179,51 @@ fn lower_bound<T: Real, const N: usize>(path: &Path<T, N>, i: usize, qx: T, qy: 
     let dy = qy - my;
     (dx * dx + dy * dy).sqrt() - T::HALF * len
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::path::anchored::PathBuilder;
+    use crate::path::segment::Segment;
+
+    /// In steady driving the foot is stepped (no window search), and the
+    /// stepped foot is the one the window search finds: the point put `d`
+    /// along the normal at station `s` has its foot at `s` (definition).
+    #[test]
+    fn steady_updates_are_stepped() {
+        let path = PathBuilder::<f32, 8>::new(Pose::new(5.0, -3.0, 0.2))
+            .unwrap()
+            .push(Segment::line(30.0).unwrap())
+            .unwrap()
+            .push(Segment::transition(20.0, 0.0, 0.1).unwrap())
+            .unwrap()
+            .push(Segment::arc(30.0, 0.1).unwrap())
+            .unwrap()
+            .push(Segment::transition(20.0, 0.1, -0.05).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
+        let mut stepped = 0;
+        let n = 900;
+        for i in 0..n {
+            let s = 2.0 + 0.1 * i as f32;
+            let p = path.at(s);
+            let d = 0.3 * libm::sinf(0.05 * i as f32);
+            let q = Pose::new(p.x - d * p.sin, p.y + d * p.cos, p.heading());
+            let mut probe = t;
+            if t.is_acquired() && probe.step_foot(&path, &q, None).is_some() {
+                stepped += 1;
+            }
+            let r = t.update(&path, &q).unwrap();
+            assert!((r.station - s).abs() < 2e-4, "{i}: {} vs {s}", r.station);
+            assert!(
+                (r.cross_track - d).abs() < 2e-5,
+                "{i}: {} vs {d}",
+                r.cross_track
+            );
+        }
+        // All but the first (acquisition) update.
+        assert_eq!(stepped, n - 1);
+    }
+}
