@@ -54,6 +54,9 @@ fn sizes_are_small() {
         "{}",
         core::mem::size_of::<Path<f32, 64>>()
     );
-    assert!(core::mem::size_of::<Tracker<f32>>() <= 64);
+    // The tracker carries its foot point and three exact bases with their
+    // series coefficients (src/track/foot.rs) from cycle to cycle.
+    let tracker = core::mem::size_of::<Tracker<f32>>();
+    assert!(tracker <= 640, "{tracker}");
     assert_eq!(DIRECTION.sign::<f64>(), 1.0);
 }

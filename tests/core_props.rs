@@ -201,3 +201,46 @@ fn f32_copy(path: &Path<f64, N>) -> Path<f32, N> {
         b.build().unwrap()
     }
 }
+
+/// Motions along a path: steps of station (mostly forwards, some back) and
+/// lateral offsets, well inside every radius of the random paths (>= 2.5 m).
+fn motions() -> impl Strategy<Value = Vec<(f64, f64)>> {
+    prop::collection::vec((-0.3f64..0.6, -0.3f64..0.3), 1..60)
+}
+
+proptest! {
+    // The foot stepped from cycle to cycle (track/foot.rs) against the
+    // closed-form evaluation of the path (`Path::at`, checked against mpmath
+    // in core_clothoid.rs): a point put `d` along the normal at station `s`,
+    // with |kappa d| < 1 there, has its foot at `s` (definition of the foot
+    // point), and the lookahead is the closed-form point `lookahead` beyond.
+    #[test]
+    fn stepped_foot_equals_the_closed_form_projection(
+        path in any_path(),
+        frac in 0.0f64..1.0,
+        moves in motions(),
+    ) {
+        let margin = 6.0;
+        let len = path.length();
+        prop_assume!(len > 3.0 * margin);
+        let mut s = margin + frac * (len - 3.0 * margin);
+        let mut t = Tracker::new(exact_config()).unwrap();
+        t.resume_at(Cursor::at(&path, s).unwrap());
+        for (ds, d) in moves {
+            s = (s + ds).clamp(margin, len - 2.0 * margin);
+            let p = path.at(s);
+            let q = Pose::new(p.x - d * p.sin, p.y + d * p.cos, p.heading());
+            let r = t.update(&path, &q).unwrap();
+            let mut e = (r.station - s).abs();
+            if path.is_closed() {
+                e = e.min(len - e);
+            }
+            prop_assert!(e < 1e-6, "station {} vs {s}", r.station);
+            prop_assert!((r.cross_track - d).abs() < 1e-6, "cross-track {} vs {d}", r.cross_track);
+            prop_assert!((r.foot.x - p.x).abs() < 1e-6 && (r.foot.y - p.y).abs() < 1e-6);
+            let a = path.at(s + t.config().lookahead);
+            prop_assert!((r.ahead.x - a.x).abs() < 1e-6 && (r.ahead.y - a.y).abs() < 1e-6);
+            prop_assert!((r.ahead.cos - a.cos).abs() < 1e-9 && (r.ahead.sin - a.sin).abs() < 1e-9);
+        }
+    }
+}

@@ -366,7 +366,10 @@ fn stuck_steering_runs_wide_and_recovers() {
 /// a fixed solution (hil/scenarios/field_float.toml): degraded at the first
 /// float epoch (60.0 s, delivered 60.05 s), lost after hold_time (0.5 s),
 /// following again once confirm_fixes (5) fixed epochs agree (from 70.05 s
-/// delivery, 10 Hz: at 70.45 s), with no flicker between.
+/// delivery, 10 Hz: at 70.45 s) and the whole-path search has run (spread
+/// over control cycles by `Tracker::acquire_step`, about one 20 Hz cycle
+/// per clothoid piece of the headland turns near the vehicle: measured
+/// 70.65 s; bounded here by 0.5 s of search), with no flicker between.
 #[test]
 fn fixed_to_float_for_ten_seconds_degrades_loses_and_recovers() {
     let path = concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/field_float.toml");
@@ -381,7 +384,7 @@ fn fixed_to_float_for_ten_seconds_degrades_loses_and_recovers() {
     let back = first_after(&o.run, Following, lost).unwrap();
     assert!((deg - 60.05).abs() < 1e-6, "degraded at {deg}");
     assert!((lost - deg - 0.5).abs() <= 0.05 + 1e-9, "lost at {lost}");
-    assert!((70.05..=70.55).contains(&back), "following at {back}");
+    assert!((70.45..=70.95).contains(&back), "following at {back}");
     assert!(o.pass(), "{:?}", failed(&o));
     // Gated on float instead, it rides through the drop.
     let o = run(&scenario(

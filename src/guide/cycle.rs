@@ -241,8 +241,12 @@ pub enum Reason {
     LargeSigma,
     /// Cross-track or heading error beyond its limit.
     OffLimits,
-    /// The tracker lost the path.
+    /// The tracker lost the path (or the whole-path search found it
+    /// nowhere within `lost_distance`).
     PathLost,
+    /// The whole-path search is still running (a bounded part of it each
+    /// cycle; see [`crate::Tracker::acquire_step`]).
+    Searching,
     /// `now` or the period is invalid, or time went backwards.
     BadTime,
     /// Disengaged by [`crate::Guidance::standby`] (or never engaged).

@@ -80,12 +80,13 @@ use crate::guide::supervisor::{FixMonitor, Mode, SupervisorConfig, Verdict};
 use crate::guide::time::{Micros, MICROS_PER_SECOND};
 use crate::num::real::{c, Real};
 use crate::path::anchored::Path;
+use crate::path::cursor::Cursor;
 use crate::path::pose::{Direction, PathPoint, Pose};
 use crate::steer::law::{SteerError, SteeringInput, SteeringLaw};
 use crate::steer::limits::{Limited, SteerLimiter};
 use crate::steer::speed::speed_cap;
 use crate::steer::vehicle::{rear_axle_offset, Vehicle};
-use crate::track::tracker::{TrackStatus, Tracker, TrackerConfig, Tracking};
+use crate::track::tracker::{Acquisition, TrackStatus, Tracker, TrackerConfig, Tracking};
 
 /// Consecutive cycles with `now` going backwards after which the guidance
 /// takes the new time base and starts again in `Acquiring`.
@@ -186,15 +187,32 @@ fn eval_on_leg<T: Real, const N: usize>(path: &Path<T, N>, leg: &Leg<T>, s: T) -
     path.eval_in(i, u.clamp_to(T::ZERO, path.segment_length(i)))
 }
 
-/// The leg point at station `s`, continued along the tangent past its
-/// ends, shifted `left` metres along the path's left normal there.
-fn extended_point<T: Real, const N: usize>(
+/// The station of the tracker's foot for the leg: exactly the leg's end
+/// (start) when the foot sticks to it, so that `on_leg_at` continues along
+/// the tangent beyond it.
+fn foot_station<T: Real, const N: usize>(
     path: &Path<T, N>,
     leg: &Leg<T>,
-    s: T,
-    left: T,
-) -> (T, T) {
-    let p = eval_on_leg(path, leg, s);
+    t: &Tracking<T>,
+    foot: Cursor<T>,
+) -> T {
+    if !leg.bounded {
+        return t.foot.station;
+    }
+    let (seg, u) = (foot.segment(), foot.offset());
+    if seg == leg.last && u >= path.segment_length(seg) {
+        leg.end
+    } else if seg == leg.first && u <= T::ZERO {
+        leg.start
+    } else {
+        t.foot.station
+    }
+}
+
+/// The leg point at station `s` (`p`, evaluated at `s` clamped onto the
+/// leg), continued along the tangent past its ends, shifted `left` metres
+/// along the path's left normal there.
+fn extended_from<T: Real>(leg: &Leg<T>, p: PathPoint<T>, s: T, left: T) -> (T, T) {
     let beyond = if leg.bounded {
         s - clamp_on(leg, s)
     } else {
@@ -209,7 +227,7 @@ fn extended_point<T: Real, const N: usize>(
 }
 
 /// Projects `(qx, qy)` with travel heading `(sin, cos)` onto the leg,
-/// starting from station `guess`.
+/// starting from station `guess`, evaluating by the closed form.
 fn project<T: Real, const N: usize>(
     path: &Path<T, N>,
     leg: &Leg<T>,
@@ -217,9 +235,21 @@ fn project<T: Real, const N: usize>(
     q: (T, T),
     travel: (T, T),
 ) -> OnLeg<T> {
+    project_with(leg, guess, q, travel, |s| eval_on_leg(path, leg, s))
+}
+
+/// As [`project`], evaluating leg points with `eval` (a station already
+/// clamped onto the leg in, the path point there out).
+fn project_with<T: Real>(
+    leg: &Leg<T>,
+    guess: T,
+    q: (T, T),
+    travel: (T, T),
+    mut eval: impl FnMut(T) -> PathPoint<T>,
+) -> OnLeg<T> {
     let (qx, qy) = q;
     let mut s = clamp_on(leg, guess);
-    let mut p = eval_on_leg(path, leg, s);
+    let mut p = eval(s);
     for _ in 0..PROJECTION_STEPS {
         let along = p.along_offset(qx, qy);
         let lat = p.lateral_offset(qx, qy);
@@ -232,8 +262,16 @@ fn project<T: Real, const N: usize>(
             break;
         }
         s = next;
-        p = eval_on_leg(path, leg, s);
+        p = eval(s);
     }
+    on_leg_at(leg, s, p, q, travel)
+}
+
+/// The leg point `p` at station `s` as the projection of `q` (travel
+/// heading `(sin, cos)`): continued along the tangent when `q` lies beyond
+/// a leg end (`s` at the end).
+fn on_leg_at<T: Real>(leg: &Leg<T>, s: T, p: PathPoint<T>, q: (T, T), travel: (T, T)) -> OnLeg<T> {
+    let (qx, qy) = q;
     let along = p.along_offset(qx, qy);
     let at_end =
         leg.bounded && ((s >= leg.end && along > T::ZERO) || (s <= leg.start && along < T::ZERO));
@@ -312,6 +350,10 @@ struct Situation<T> {
     leg: Leg<T>,
     cp: OnLeg<T>,
     tracking: Tracking<T>,
+    /// `(sin, cos)` of the fix's body heading (one `sin_cos` per cycle).
+    body: (T, T),
+    /// `true` if `cp` is the tracker's foot (its lookahead then starts there).
+    from_foot: bool,
 }
 
 impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
@@ -408,6 +450,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         }
     }
 
+    #[inline(always)]
     fn cycle<const N: usize>(&mut self, path: &Path<T, N>, input: &GuidanceInput<T>) -> Command<T> {
         let now = input.now;
         // A period beyond the 2^31 us horizon of `Micros` is refused too.
@@ -471,7 +514,11 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             (Mode::Lost, Verdict::Usable(f) | Verdict::Jumped(f))
                 if self.monitor.agreeing >= self.config.confirm_fixes =>
             {
-                self.tracker.reset();
+                // Once: a whole-path search spread over cycles is under way
+                // while the tracker is not acquired.
+                if self.tracker.is_acquired() {
+                    self.tracker.reset();
+                }
                 self.law.reset();
                 self.leg = None;
                 self.acquire(path, f, dt, Mode::Lost)
@@ -488,8 +535,22 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         dt: T,
         fail: Mode,
     ) -> Command<T> {
-        self.tracker.reset();
+        // A shifted line acquires in one call through `update_offset`.
         let on_line = self.operator.onto_reference(&mut self.tracker, path, f);
+        // The whole-path search, a bounded part per cycle.
+        if !self.tracker.is_acquired() {
+            let pose = Pose::new(on_line.x, on_line.y, on_line.heading);
+            let reason = match self.tracker.acquire_step(path, &pose) {
+                Ok(Acquisition::Done(t)) if t.status != TrackStatus::Lost => None,
+                Ok(Acquisition::Searching { .. }) => Some(Reason::Searching),
+                _ => Some(Reason::PathLost),
+            };
+            if reason.is_some() {
+                self.reason = reason;
+                self.mode = fail;
+                return self.straighten(fail.status(), dt);
+            }
+        }
         match self.locate(path, &on_line) {
             Some(sit) if self.within_limits(&sit.cp) => {
                 self.mode = Mode::Following;
@@ -501,6 +562,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             }
             found => {
                 self.reason = Some(Self::why_not(found.is_some()));
+                // Search the whole path again next time.
+                self.tracker.reset();
                 self.mode = fail;
                 self.straighten(fail.status(), dt)
             }
@@ -508,6 +571,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     }
 
     /// Steering along the path with a usable fix.
+    #[inline(always)]
     fn follow<const N: usize>(&mut self, path: &Path<T, N>, f: Fix<T>, dt: T) -> Command<T> {
         self.monitor.accept(f);
         self.speed = f.speed;
@@ -540,9 +604,10 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             && cp.heading_error.abs() <= self.config.max_heading_error
     }
 
-    /// The travel heading's `(sin, cos)` on a leg of direction `dir`.
-    fn travel(heading: T, dir: Direction) -> (T, T) {
-        let (s, co) = heading.sin_cos();
+    /// The travel heading's `(sin, cos)` on a leg of direction `dir`, from
+    /// the body heading's `(sin, cos)`.
+    fn travel(body: (T, T), dir: Direction) -> (T, T) {
+        let (s, co) = body;
         match dir {
             Direction::Forward => (s, co),
             Direction::Reverse => (-s, -co),
@@ -551,6 +616,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
 
     /// Tracker update and projection of the control point onto its leg
     /// (switching legs at a reached cusp). `None` if the tracker lost the path.
+    #[inline(always)]
     fn locate<const N: usize>(&mut self, path: &Path<T, N>, f: &Fix<T>) -> Option<Situation<T>> {
         let dir = self.leg.map(|l| l.direction).unwrap_or_default();
         let u_cp = dir.sign::<T>() * self.vehicle.control_point();
@@ -577,14 +643,17 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             }
         };
         let on_leg = t.foot.segment >= leg.first && t.foot.segment <= leg.last;
-        let guess = if on_leg { t.station } else { self.station };
-        let mut cp = project(
-            path,
-            &leg,
-            guess,
-            (f.x, f.y),
-            Self::travel(f.heading, leg.direction),
-        );
+        let body = f.heading.sin_cos();
+        let travel = Self::travel(body, leg.direction);
+        let mut from_foot = on_leg;
+        let mut cp = if on_leg {
+            // The tracker's foot is the projection onto the leg: one
+            // projection per cycle.
+            let s = foot_station(path, &leg, &t, self.tracker.cursor());
+            on_leg_at(&leg, s, t.foot, (f.x, f.y), travel)
+        } else {
+            project(path, &leg, self.station, (f.x, f.y), travel)
+        };
         // Leaving the leg at its end: onto the next leg, at once if it has
         // the same direction (the seam of a loop), after a stop at a cusp.
         if leg.bounded && cp.station >= leg.end - self.config.cusp_tolerance {
@@ -596,12 +665,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                     // acquisition: once per leg change.
                     leg = leg_of(path, n);
                     self.law.reset();
+                    from_foot = false;
                     cp = project(
                         path,
                         &leg,
                         leg.start,
                         (f.x, f.y),
-                        Self::travel(f.heading, leg.direction),
+                        Self::travel(body, leg.direction),
                     );
                 }
             }
@@ -619,10 +689,17 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             ahead: t.ahead,
             status: t.status,
         };
-        Some(Situation { leg, cp, tracking })
+        Some(Situation {
+            leg,
+            cp,
+            tracking,
+            body,
+            from_foot,
+        })
     }
 
     /// The law's command, limited, with the speed cap; or the end of path.
+    #[inline(always)]
     fn drive<const N: usize>(
         &mut self,
         path: &Path<T, N>,
@@ -630,7 +707,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         sit: Situation<T>,
         dt: T,
     ) -> Command<T> {
-        let Situation { leg, cp, tracking } = sit;
+        let Situation {
+            leg,
+            cp,
+            tracking,
+            body,
+            from_foot,
+        } = sit;
         let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
         if last_leg && cp.station >= leg.end - self.config.end_tolerance {
             self.mode = Mode::EndOfPath;
@@ -639,25 +722,50 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             return cmd;
         }
         let sign = leg.direction.sign::<T>();
-        let travel = Self::travel(f.heading, leg.direction);
+        let travel = Self::travel(body, leg.direction);
         let (ts, tc) = travel;
         let u_cp = sign * self.vehicle.control_point();
         let b = self.law.reference_point(self.vehicle.wheelbase());
         let shift = b - u_cp;
+        let (first, last) = (leg.first, leg.last);
         let reference = if shift == T::ZERO {
             cp
         } else {
             let q = (f.x + shift * tc, f.y + shift * ts);
-            let (_, cos_e) = cp.heading_error.sin_cos();
-            project(path, &leg, cp.station + shift * cos_e, q, travel)
+            // The start: the foot of q on the circle of curvature at the
+            // control point's foot (exact on an arc to fourth order, as the
+            // tracker's step), so one evaluation usually settles it.
+            let p = cp.point;
+            let (a, b) = (p.along_offset(q.0, q.1), p.lateral_offset(q.0, q.1));
+            let scale = (T::ONE - p.curvature * b).max(c(0.2));
+            let newton = a / scale;
+            let x = p.curvature * newton;
+            let guess = cp.station + newton * (T::ONE - x * x * c(1.0 / 3.0));
+            let tracker = &mut self.tracker;
+            project_with(&leg, guess, q, travel, |s| {
+                tracker.point_near(path, s, first, last, false)
+            })
         };
         let speed = f.speed.abs();
         let look = self.law.lookahead(speed);
         let goal = if look > T::ZERO {
             let at = cp.station + (look - u_cp).max(T::ZERO);
-            let kappa_goal = eval_on_leg(path, &leg, at).curvature;
-            let shift = rear_axle_offset(kappa_goal, u_cp);
-            let (gx, gy) = extended_point(path, &leg, at, shift);
+            let on = clamp_on(&leg, at);
+            // The tracker's lookahead is this point when the control point
+            // is the tracker's foot and the goal lies on the leg: reuse it.
+            let a = tracking.ahead;
+            let same = from_foot
+                && on == at
+                && a.segment >= first
+                && a.segment <= last
+                && (a.station - at).abs() <= T::EPSILON * c(16.0) * (T::ONE + at.abs());
+            let p = if same {
+                a
+            } else {
+                self.tracker.point_near(path, on, first, last, true)
+            };
+            let shift = rear_axle_offset(p.curvature, u_cp);
+            let (gx, gy) = extended_from(&leg, p, at, shift);
             let rx = f.x - u_cp * tc;
             let ry = f.y - u_cp * ts;
             let (dx, dy) = (gx - rx, gy - ry);
@@ -668,7 +776,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         // Feedforward taken the actuator's lag ahead (Vehicle::with_steer_lag).
         let preview = speed * self.vehicle.steer_lag();
         let ahead = if preview > T::ZERO {
-            eval_on_leg(path, &leg, reference.station + preview)
+            let at = clamp_on(&leg, reference.station + preview);
+            self.tracker.point_near(path, at, first, last, false)
         } else {
             reference.point
         };
@@ -703,6 +812,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         self.command(limited, limit, GuidanceStatus::Following, Some(tracking))
     }
 
+    #[inline(always)]
     fn command(
         &self,
         lim: Limited<T>,

@@ -98,7 +98,12 @@ impl<T: Real> SteerLimiter<T> {
                 // Keep the result inside the range even if rounding drifted.
                 let steer = steer.clamp_to(-range, range);
                 self.steer = steer;
-                self.curvature = tan(steer) / wheelbase;
+                // Unlimited: the curvature asked for (no tan(atan(.)) round trip).
+                self.curvature = if steer == wanted {
+                    kappa
+                } else {
+                    tan(steer) / wheelbase
+                };
                 Limited {
                     curvature: self.curvature,
                     steer_angle: steer,

@@ -40,10 +40,17 @@ const SCAN_MARGIN: f64 = 2.0;
 /// magnitude over the stretch), `kappa_min` (1/m, the smallest magnitude
 /// over it) and sharpness `sigma` (1/m^2), m/s.
 pub fn local_speed_limit<T: Real>(vehicle: &Vehicle<T>, kappa: T, kappa_min: T, sigma: T) -> T {
-    let mut v = vehicle.max_speed();
+    local_speed_limit_sq(vehicle, kappa, kappa_min, sigma).sqrt()
+}
+
+/// The square of [`local_speed_limit`], m^2/s^2 (no square root: the speed
+/// cap compares squares and takes one root at the end).
+fn local_speed_limit_sq<T: Real>(vehicle: &Vehicle<T>, kappa: T, kappa_min: T, sigma: T) -> T {
+    let vmax = vehicle.max_speed();
+    let mut v2 = vmax * vmax;
     let k = kappa.abs();
     if k > T::ZERO {
-        v = v.min((vehicle.max_lateral_acceleration() / k).sqrt());
+        v2 = v2.min(vehicle.max_lateral_acceleration() / k);
     }
     let s = sigma.abs();
     if s > T::ZERO {
@@ -54,9 +61,9 @@ pub fn local_speed_limit<T: Real>(vehicle: &Vehicle<T>, kappa: T, kappa_min: T, 
             }
             Chassis::DifferentialDrive { .. } => vehicle.max_curvature_rate() / s,
         };
-        v = v.min(rate_cap);
+        v2 = v2.min(rate_cap * rate_cap);
     }
-    v
+    v2
 }
 
 /// The speed cap at `station` (m) on `path`, m/s: the largest speed from
@@ -118,8 +125,8 @@ pub fn speed_cap<T: Real, const N: usize>(
         } else {
             k0.abs().min(k1.abs())
         };
-        let vl = local_speed_limit(vehicle, k_max, k_min, shape.sigma());
-        v2 = v2.min(vl * vl + T::TWO * a * ahead);
+        let vl2 = local_speed_limit_sq(vehicle, k_max, k_min, shape.sigma());
+        v2 = v2.min(vl2 + T::TWO * a * ahead);
         ahead += len - u0;
         if ahead >= horizon {
             covered = true;

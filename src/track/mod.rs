@@ -6,7 +6,12 @@
 //! [`crate::num`] and [`crate::path`].
 
 pub(crate) mod error;
+pub(crate) mod foot;
 pub(crate) mod tracker;
 
 pub use error::TrackError;
-pub use tracker::{TrackStatus, Tracker, TrackerConfig, Tracking, MAX_WINDOW_SEGMENTS};
+pub use foot::{CLOTHOID_REACH, MAX_REACH, MAX_TERMS, MAX_TURN};
+pub use tracker::{
+    Acquisition, TrackStatus, Tracker, TrackerConfig, Tracking, ACQUIRE_PIECE, ACQUIRE_WORK,
+    MAX_WINDOW_SEGMENTS, NEWTON_STEPS,
+};

@@ -35,10 +35,79 @@
 
 use crate::num::real::{c, Real};
 use crate::path::anchored::Path;
-use crate::path::cursor::Cursor;
+use crate::path::cursor::{Cursor, Travel};
 use crate::path::pose::{Direction, PathPoint, Pose};
 use crate::path::project::{nearest_on_segment, Foot};
 use crate::track::error::TrackError;
+use crate::track::foot::Stepper;
+
+/// Most Newton evaluations of one stepped update (the first uses the foot
+/// carried from the last cycle and costs none).
+pub const NEWTON_STEPS: usize = 4;
+
+/// Work one call of [`Tracker::acquire_step`] may do, in units: 1 per
+/// segment ruled out by its bounding circle, 4 per line or arc projected,
+/// 40 (all of a call) per clothoid piece projected (at most [`ACQUIRE_PIECE`] metres and a
+/// turn of pi/4). A sweep therefore takes at most
+/// `ceil(4 lines_and_arcs / 40) + clothoid_pieces + 1` calls (every
+/// segment a candidate) and at least `ceil(n / 40) + 1` for `n` segments
+/// (all but a few ruled out), the last call settling on the best foot.
+pub const ACQUIRE_WORK: u32 = 40;
+/// Longest clothoid piece one unit of acquisition work projects onto, metres.
+pub const ACQUIRE_PIECE: f64 = 4.0;
+
+/// What one call of [`Tracker::acquire_step`] did.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Acquisition<T> {
+    /// Still sweeping the path: `examined` of `segments` segments done.
+    Searching {
+        /// Segments examined so far.
+        examined: usize,
+        /// Segments in the path.
+        segments: usize,
+    },
+    /// The sweep is over: the tracking state at the best foot (its status
+    /// says whether the path was found within `lost_distance`).
+    Done(Tracking<T>),
+}
+
+/// A whole-path search in progress.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct Sweep<T> {
+    running: bool,
+    /// The next segment to examine, and how far into it (clothoid pieces).
+    next: usize,
+    from: T,
+    /// The best score so far (metres) and its foot.
+    best: Option<(T, Foot<T>)>,
+}
+
+impl<T: Real> Sweep<T> {
+    fn idle() -> Self {
+        Self {
+            running: false,
+            next: 0,
+            from: T::ZERO,
+            best: None,
+        }
+    }
+}
+
+/// The Newton iteration on the foot condition stops when its step is below
+/// this, metres (`1e-6` in `f32`, `1e-12` in `f64`), plus the resolution of
+/// the coordinates in `T` (`4 epsilon (|x| + |y|)`: 6e-5 m at 1 km in `f32`,
+/// below which no evaluation can resolve the foot).
+#[inline]
+pub(crate) fn foot_tolerance<T: Real>(x: T, y: T) -> T {
+    let abs: T = if T::EPSILON > c(1e-10) {
+        c(1e-6)
+    } else {
+        c(1e-12)
+    };
+    abs + T::EPSILON * c(4.0) * (x.abs() + y.abs())
+}
 
 /// The projection window covers at most this many segments, half of them
 /// behind the last foot point and half ahead (its own segment counts on both
@@ -132,6 +201,10 @@ impl<T: Real> TrackerConfig<T> {
 /// How the control point relates to the path.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+// Word-sized: the structs that hold it (path points, tracking states) then
+// have no byte-sized tail, and moving them copies words, not bytes (a
+// byte-wise `memcpy` of a tracking state cost 800 instructions on an M4F).
+#[repr(u32)]
 pub enum TrackStatus {
     /// The foot point lies on the path.
     OnPath,
@@ -199,6 +272,14 @@ pub struct Tracker<T> {
     config: TrackerConfig<T>,
     cursor: Cursor<T>,
     acquired: bool,
+    /// The path point at `cursor`, carried to the next cycle (valid when
+    /// `foot_valid`).
+    foot: PathPoint<T>,
+    foot_valid: bool,
+    /// Exact bases near the foot and the lookahead, and the series around them.
+    stepper: Stepper<T>,
+    /// A whole-path search spread over calls ([`Tracker::acquire_step`]).
+    sweep: Sweep<T>,
 }
 
 impl<T: Real> Tracker<T> {
@@ -213,6 +294,10 @@ impl<T: Real> Tracker<T> {
             config,
             cursor: Cursor::start(),
             acquired: false,
+            foot: PathPoint::default(),
+            foot_valid: false,
+            stepper: Stepper::default(),
+            sweep: Sweep::idle(),
         })
     }
 
@@ -244,9 +329,68 @@ impl<T: Real> Tracker<T> {
         self.cursor
     }
 
+    /// The path point `distance` metres beyond the last good foot point
+    /// (behind it if negative): a lookahead query, clamped at the ends of an
+    /// open path and wrapped on a closed one, as [`Cursor::ahead`].
+    ///
+    /// Evaluated by a series step from an exact base near the foot or near
+    /// the last lookahead (re-anchored when neither reaches; see
+    /// `track/foot.rs`), so it agrees with the closed form of
+    /// [`Path::at`] to the rounding of `T`; `&mut self` because the base is
+    /// kept for the next call.
+    ///
+    /// # Errors
+    /// [`TrackError::NonFinite`] if `distance` is NaN or infinite; nothing
+    /// changes.
+    pub fn ahead<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        distance: T,
+    ) -> Result<PathPoint<T>, TrackError> {
+        if !distance.is_finite() {
+            return Err(TrackError::NonFinite);
+        }
+        let (to, _) = moved_by(path, self.cursor, distance);
+        Ok(self.stepper.far_point(path, to.segment(), to.offset()))
+    }
+
+    /// The path point at `station` (metres, near the last foot point),
+    /// restricted to segments `first..=last` (a run of one driving
+    /// direction; the point sticks to its ends), by a series step from a
+    /// base near the foot (`far`: the base near the lookahead).
+    ///
+    /// For the guidance's reference point, goal and preview: one projection
+    /// per cycle (the tracker's), the rest stepped from its foot.
+    pub(crate) fn point_near<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        station: T,
+        first: usize,
+        last: usize,
+        far: bool,
+    ) -> PathPoint<T> {
+        let from = self.cursor;
+        let ds = station - from.station(path);
+        let (to, _) = moved_by(path, from, if ds.is_finite() { ds } else { T::ZERO });
+        let (seg, u) = if to.segment() > last {
+            (last, path.segment_length(last))
+        } else if to.segment() < first {
+            (first, T::ZERO)
+        } else {
+            (to.segment(), to.offset())
+        };
+        if far {
+            self.stepper.far_point(path, seg, u)
+        } else {
+            self.stepper.other_point(path, seg, u)
+        }
+    }
+
     /// Forgets the station: the next update searches the whole path.
     pub fn reset(&mut self) {
         self.acquired = false;
+        self.foot_valid = false;
+        self.sweep = Sweep::idle();
     }
 
     /// Takes a known position on the path (e.g. resuming a pass at a
@@ -259,6 +403,8 @@ impl<T: Real> Tracker<T> {
     pub fn resume_at(&mut self, cursor: Cursor<T>) {
         self.cursor = cursor;
         self.acquired = true;
+        // The next update searches the window once and carries on from there.
+        self.foot_valid = false;
     }
 
     /// Projects `pose` (control point position in metres, body heading in
@@ -278,8 +424,7 @@ impl<T: Real> Tracker<T> {
             return self.acquire(path, pose);
         }
         check_input(pose, T::ZERO)?;
-        let foot = self.search_window(path, pose, None);
-        Ok(self.settle(path, pose, foot, T::ZERO))
+        Ok(self.locate(path, pose, None, T::ZERO))
     }
 
     /// As [`Tracker::update`], for a control point that should follow the
@@ -313,8 +458,7 @@ impl<T: Real> Tracker<T> {
         if !self.acquired {
             return self.acquire_with(path, pose, None, offset);
         }
-        let foot = self.search_window(path, pose, None);
-        Ok(self.settle(path, pose, foot, offset))
+        Ok(self.locate(path, pose, None, offset))
     }
 
     /// As [`Tracker::update`], for a vehicle that is driving in `direction`:
@@ -340,8 +484,7 @@ impl<T: Real> Tracker<T> {
             return self.acquire_driving(path, pose, Some(direction));
         }
         check_input(pose, T::ZERO)?;
-        let foot = self.search_window(path, pose, Some(direction));
-        Ok(self.settle(path, pose, foot, T::ZERO))
+        Ok(self.locate(path, pose, Some(direction), T::ZERO))
     }
 
     /// Searches the whole path for the control point (bounded by the path's
@@ -357,6 +500,135 @@ impl<T: Real> Tracker<T> {
         pose: &Pose<T>,
     ) -> Result<Tracking<T>, TrackError> {
         self.acquire_driving(path, pose, None)
+    }
+
+    /// One bounded part of a whole-path search ([`ACQUIRE_WORK`] units of
+    /// work): the acquisition of [`Tracker::acquire`], spread over as many
+    /// calls as the path needs, so that no call takes much longer than a
+    /// tracker update. Returns [`Acquisition::Searching`] until the sweep
+    /// has examined every segment; the call after it (the same call, if the
+    /// sweep took at most half of it) settles on the best foot with its own
+    /// pose (as an update from there) and returns
+    /// [`Acquisition::Done`] (and the tracker is acquired if that foot is
+    /// within `lost_distance`). Once acquired, a call is an update.
+    ///
+    /// Each segment is scored against the pose of the call that examines it
+    /// (distance plus `heading_weight` times the heading error, as
+    /// [`Tracker::acquire`]): a vehicle should stand still, or nearly, while
+    /// the sweep runs (the guidance requests a stop while acquiring).
+    ///
+    /// # Errors
+    /// As [`Tracker::update`]; the search state is unchanged.
+    pub fn acquire_step<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+    ) -> Result<Acquisition<T>, TrackError> {
+        check_input(pose, T::ZERO)?;
+        if self.acquired {
+            return Ok(Acquisition::Done(self.locate(path, pose, None, T::ZERO)));
+        }
+        let mut sweep = if self.sweep.running {
+            self.sweep
+        } else {
+            Sweep::idle()
+        };
+        if !(sweep.running && sweep.next >= path.len()) {
+            // Sweeping; the call that finishes the sweep settles too if the
+            // sweep took at most half of its work (a short path: one call).
+            sweep.running = true;
+            let work = self.sweep_some(path, pose, &mut sweep);
+            self.sweep = sweep;
+            if sweep.next < path.len() || work > ACQUIRE_WORK / 2 {
+                return Ok(Acquisition::Searching {
+                    examined: sweep.next,
+                    segments: path.len(),
+                });
+            }
+        }
+        self.sweep = Sweep::idle();
+        let Some((_, best)) = sweep.best else {
+            return Ok(Acquisition::Searching {
+                examined: 0,
+                segments: path.len(),
+            });
+        };
+        // Settle with this call's pose: Newton from the best foot (the
+        // window search where that is not sure to find the window's nearest).
+        let before = (self.cursor, self.foot, self.foot_valid);
+        self.cursor = Cursor::on(best.segment, best.offset);
+        self.foot = self.stepper.near_point(path, best.segment, best.offset);
+        self.foot_valid = true;
+        let result = self.locate(path, pose, None, T::ZERO);
+        if result.status == TrackStatus::Lost {
+            (self.cursor, self.foot, self.foot_valid) = before;
+        } else {
+            self.acquired = true;
+        }
+        Ok(Acquisition::Done(result))
+    }
+
+    /// Examines segments from where `sweep` stands until the work of one
+    /// call is spent; returns the work done.
+    fn sweep_some<const N: usize>(
+        &self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        sweep: &mut Sweep<T>,
+    ) -> u32 {
+        let w = self.config.heading_weight;
+        let (hs, hc) = pose.heading.sin_cos();
+        let quarter: T = c(core::f64::consts::FRAC_PI_4);
+        let piece: T = c(ACQUIRE_PIECE);
+        let mut work = 0u32;
+        // Each pass of the loop spends at least one unit: bounded.
+        for _ in 0..ACQUIRE_WORK {
+            if work >= ACQUIRE_WORK || sweep.next >= path.len() {
+                return work;
+            }
+            let i = sweep.next;
+            let pl = *path.placed_at(i);
+            let len = path.segment_length(i);
+            let lower = lower_bound(path, i, pose.x, pose.y);
+            if sweep.from == T::ZERO && sweep.best.is_some_and(|(b, _)| lower > b) {
+                work += 1;
+                sweep.next += 1;
+                continue;
+            }
+            // Lines and arcs whole; clothoids a piece at a time.
+            let (lo, hi) = if pl.sigma == T::ZERO {
+                work += 4;
+                (T::ZERO, len)
+            } else {
+                work += ACQUIRE_WORK;
+                let bend = pl.kappa0.abs().max((pl.kappa0 + pl.sigma * len).abs());
+                let span = if bend * piece > quarter {
+                    quarter / bend
+                } else {
+                    piece
+                };
+                (sweep.from, (sweep.from + span).min(len))
+            };
+            let f = nearest_on_segment(path, i, lo, hi, pose.x, pose.y);
+            let mut score = f.dist2.sqrt();
+            if w > T::ZERO {
+                let p = path.eval_in(i, f.offset);
+                let sign = p.direction.sign::<T>();
+                let cross = (p.cos * hs - p.sin * hc) * sign;
+                let dot = (p.cos * hc + p.sin * hs) * sign;
+                score += w * cross.atan2(dot).abs();
+            }
+            if sweep.best.is_none_or(|(b, _)| score < b) {
+                sweep.best = Some((score, f));
+            }
+            if hi >= len {
+                sweep.next += 1;
+                sweep.from = T::ZERO;
+            } else {
+                sweep.from = hi;
+            }
+        }
+        work
     }
 
     /// Acquisition preferring segments driven in `driving`.
@@ -398,7 +670,44 @@ impl<T: Real> Tracker<T> {
         offset: T,
     ) -> Tracking<T> {
         let cursor = Cursor::on(foot.segment, foot.offset);
-        let point = cursor.point(path);
+        let point = self.stepper.near_point(path, foot.segment, foot.offset);
+        self.settle_at(path, pose, cursor, point, foot.dist2, offset)
+    }
+
+    /// The window search in general, the stepped foot when it is sure to
+    /// give the same foot (see [`Tracker::step_foot`]).
+    fn locate<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        driving: Option<Direction>,
+        offset: T,
+    ) -> Tracking<T> {
+        if let Some((cursor, point)) = self.step_foot(path, pose, driving) {
+            let ex = point.x - pose.x;
+            let ey = point.y - pose.y;
+            return self.settle_at(path, pose, cursor, point, ex * ex + ey * ey, offset);
+        }
+        let foot = self.search_window(path, pose, driving);
+        self.settle(path, pose, foot, offset)
+    }
+
+    /// As [`Tracker::settle`] for a foot already evaluated (`point` at
+    /// `cursor`, `dist2` m^2 from the control point).
+    fn settle_at<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        cursor: Cursor<T>,
+        point: PathPoint<T>,
+        dist2: T,
+        offset: T,
+    ) -> Tracking<T> {
+        let foot = Foot {
+            segment: cursor.segment(),
+            offset: cursor.offset(),
+            dist2,
+        };
         let lateral = point.lateral_offset(pose.x, pose.y);
         let along = point.along_offset(pose.x, pose.y);
         let mut station = path.normalize_station(point.station);
@@ -435,18 +744,107 @@ impl<T: Real> Tracker<T> {
             status = TrackStatus::Lost;
         } else {
             self.cursor = cursor;
+            self.foot = point;
+            self.foot_valid = true;
         }
-        let ahead = cursor.moved(path, self.config.lookahead).0.point(path);
+        // The path heading from the base's angle (no atan2 when stepped).
+        let body_heading = match self.stepper.heading(cursor.segment(), cursor.offset()) {
+            Some(h) if point.direction == Direction::Reverse => h + T::PI,
+            Some(h) => h,
+            None => point.body_heading(),
+        };
+        let (to, _) = moved_by(path, cursor, self.config.lookahead);
+        let ahead = self.stepper.far_point(path, to.segment(), to.offset());
         Tracking {
             station,
             cross_track: lateral,
-            heading_error: (pose.heading - point.body_heading()).wrap_angle(),
+            heading_error: (pose.heading - body_heading).wrap_angle(),
             curvature: point.curvature,
             curvature_ahead: ahead.curvature,
             distance_to_end: path.length() - station,
             foot: point,
             ahead,
             status,
+        }
+    }
+
+    /// The foot by Newton on the foot condition (with a curvature
+    /// correction that makes it exact to fourth order on a circle), stepped
+    /// from the foot of the last cycle (at most [`NEWTON_STEPS`] series
+    /// evaluations), or `None` where the window search must decide.
+    ///
+    /// The stepped foot is the window's nearest point when the foot
+    /// condition `f(s) = (p(s) - q) . T(s)` is increasing over the whole
+    /// window: then it has one root there. `f' = 1 - kappa d` with `d` the
+    /// lateral offset, and `|d| <= |q - foot| + span` over a window of
+    /// `span` metres, so `kappa_max (|q - foot| + span) < 1` (with
+    /// `kappa_max` over the window's segments, all of one driving
+    /// direction: a cusp turns the tangent) is sufficient. Past an end of an
+    /// open path, outside the window, or without convergence the window
+    /// search runs instead.
+    fn step_foot<const N: usize>(
+        &mut self,
+        path: &Path<T, N>,
+        pose: &Pose<T>,
+        driving: Option<Direction>,
+    ) -> Option<(Cursor<T>, PathPoint<T>)> {
+        if !self.foot_valid {
+            return None;
+        }
+        let (back, ahead) = (self.config.window_back, self.config.window_ahead);
+        let span = back + ahead;
+        if path.is_closed() && span >= path.length() {
+            return None;
+        }
+        let here = self.cursor.segment();
+        let dir = path.placed_at(here).direction;
+        if driving.is_some_and(|d| d != dir) {
+            return None;
+        }
+        let kmax = window_curvature(path, here, self.cursor.offset(), back, ahead, dir)?;
+        let mut cur = self.cursor;
+        let mut p = self.foot;
+        let mut moved = T::ZERO;
+        let tol = foot_tolerance(pose.x, pose.y);
+        let mut converged = false;
+        for k in 0..=NEWTON_STEPS {
+            let along = p.along_offset(pose.x, pose.y);
+            let lat = p.lateral_offset(pose.x, pose.y);
+            let scale = T::ONE - p.curvature * lat;
+            // Also refuses NaN.
+            if !scale.is_finite() || scale <= T::HALF {
+                return None;
+            }
+            // Newton's step `along / scale`, corrected for the curvature:
+            // on a circle the foot is `atan(x) / kappa` away with
+            // `x = kappa along / scale`, and `atan(x) / x = 1 - x^2 / 3 + ...`
+            // (exact to x^4: one evaluation then meets the tolerance on arcs
+            // and on the gentle clothoids of a field).
+            let newton = along / scale;
+            let x = p.curvature * newton;
+            let step = newton * (T::ONE - x * x * c(1.0 / 3.0));
+            if newton.abs() <= tol {
+                converged = kmax * (lat.abs() + span) < T::ONE;
+                break;
+            }
+            if k == NEWTON_STEPS {
+                break;
+            }
+            moved += step;
+            if moved < -back || moved > ahead {
+                return None;
+            }
+            let (next, travel) = moved_by(path, cur, step);
+            if travel != Travel::Within {
+                return None;
+            }
+            cur = next;
+            p = self.stepper.near_point(path, cur.segment(), cur.offset());
+        }
+        if converged {
+            Some((cur, p))
+        } else {
+            None
         }
     }
 
@@ -637,6 +1035,21 @@ fn check_input<T: Real>(pose: &Pose<T>, offset: T) -> Result<(), TrackError> {
     Ok(())
 }
 
+/// `cursor` moved by `ds` metres (finite): within its segment by one
+/// addition, across joints by [`Cursor::moved`].
+#[inline]
+fn moved_by<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    cursor: Cursor<T>,
+    ds: T,
+) -> (Cursor<T>, Travel) {
+    let u = cursor.offset() + ds;
+    if u >= T::ZERO && u <= path.segment_length(cursor.segment()) {
+        return (Cursor::on(cursor.segment(), u), Travel::Within);
+    }
+    cursor.moved(path, ds)
+}
+
 /// Segments searched on each side of the foot (its own counts on both).
 const HALF_WINDOW: usize = MAX_WINDOW_SEGMENTS / 2;
 
@@ -677,6 +1090,60 @@ fn beyond_cusp<T: Real, const N: usize>(path: &Path<T, N>, foot: &Foot<T>, along
     other.is_some_and(|o| path.placed_at(o).direction != here)
 }
 
+/// The largest `|curvature|` over the segments the window from `back`
+/// metres behind `offset` into segment `here` to `ahead` metres beyond it
+/// touches, or `None` if one of them has another driving direction than
+/// `dir` or the window spans more than half of [`MAX_WINDOW_SEGMENTS`] on a
+/// side (the window search cuts it there).
+fn window_curvature<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    here: usize,
+    offset: T,
+    back: T,
+    ahead: T,
+    dir: Direction,
+) -> Option<T> {
+    let bend = |i: usize| {
+        let p = path.placed_at(i);
+        let end = p.kappa0 + p.sigma * path.segment_length(i);
+        p.kappa0.abs().max(end.abs())
+    };
+    let mut kmax = bend(here);
+    // Forwards.
+    let mut seg = here;
+    let mut rest = offset + ahead - path.segment_length(here);
+    let mut k = 0;
+    while rest > T::ZERO {
+        let Some(n) = next_segment(path, seg) else {
+            break;
+        };
+        k += 1;
+        if k >= HALF_WINDOW || path.placed_at(n).direction != dir {
+            return None;
+        }
+        seg = n;
+        kmax = kmax.max(bend(seg));
+        rest -= path.segment_length(seg);
+    }
+    // Backwards.
+    let mut seg = here;
+    let mut rest = back - offset;
+    let mut k = 0;
+    while rest > T::ZERO {
+        let Some(p) = previous_segment(path, seg) else {
+            break;
+        };
+        k += 1;
+        if k >= HALF_WINDOW || path.placed_at(p).direction != dir {
+            return None;
+        }
+        seg = p;
+        kmax = kmax.max(bend(seg));
+        rest -= path.segment_length(seg);
+    }
+    Some(kmax)
+}
+
 /// Nearest point on the whole path by distance alone.
 fn nearest_anywhere<T: Real, const N: usize>(path: &Path<T, N>, qx: T, qy: T) -> Foot<T> {
     let mut best: Option<Foot<T>> = None;
@@ -711,4 +1178,52 @@ fn lower_bound<T: Real, const N: usize>(path: &Path<T, N>, i: usize, qx: T, qy: 
     let dx = qx - mx;
     let dy = qy - my;
     (dx * dx + dy * dy).sqrt() - T::HALF * len
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::path::anchored::PathBuilder;
+    use crate::path::segment::Segment;
+
+    /// In steady driving the foot is stepped (no window search), and the
+    /// stepped foot is the one the window search finds: the point put `d`
+    /// along the normal at station `s` has its foot at `s` (definition).
+    #[test]
+    fn steady_updates_are_stepped() {
+        let path = PathBuilder::<f32, 8>::new(Pose::new(5.0, -3.0, 0.2))
+            .unwrap()
+            .push(Segment::line(30.0).unwrap())
+            .unwrap()
+            .push(Segment::transition(20.0, 0.0, 0.1).unwrap())
+            .unwrap()
+            .push(Segment::arc(30.0, 0.1).unwrap())
+            .unwrap()
+            .push(Segment::transition(20.0, 0.1, -0.05).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let mut t = Tracker::new(TrackerConfig::tractor()).unwrap();
+        let mut stepped = 0;
+        let n = 900;
+        for i in 0..n {
+            let s = 2.0 + 0.1 * i as f32;
+            let p = path.at(s);
+            let d = 0.3 * libm::sinf(0.05 * i as f32);
+            let q = Pose::new(p.x - d * p.sin, p.y + d * p.cos, p.heading());
+            let mut probe = t;
+            if t.is_acquired() && probe.step_foot(&path, &q, None).is_some() {
+                stepped += 1;
+            }
+            let r = t.update(&path, &q).unwrap();
+            assert!((r.station - s).abs() < 2e-4, "{i}: {} vs {s}", r.station);
+            assert!(
+                (r.cross_track - d).abs() < 2e-5,
+                "{i}: {} vs {d}",
+                r.cross_track
+            );
+        }
+        // All but the first (acquisition) update.
+        assert_eq!(stepped, n - 1);
+    }
 }

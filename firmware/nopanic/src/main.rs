@@ -193,6 +193,15 @@ fn per_cycle(path: &Path<f32, N>) {
         if let Ok(e) = t.acquire(path, &pose) {
             sink(e.station);
         }
+        if let Ok(p) = t.ahead(path, f(114)) {
+            sink(p.x + p.y);
+        }
+        t.reset();
+        for _ in 0..4 {
+            if let Ok(kappaline::Acquisition::Done(e)) = t.acquire_step(path, &pose) {
+                sink(e.station);
+            }
+        }
         let _ = t.set_lookahead(f(110));
         t.resume_at(c);
         t.reset();

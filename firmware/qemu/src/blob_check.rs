@@ -8,7 +8,7 @@
 //! Called from `main` with one line; it keeps its own timing helpers so
 //! that it does not depend on the benchmarks there.
 
-use cortex_m::peripheral::SYST;
+use crate::meter::Meter;
 use cortex_m_semihosting::{debug, hprintln};
 use kappaline::io::blob::{
     decode, BlobError, Decoder, Origin, Progress, HEADER_LEN, ORIGIN_LEN, RECORD_LEN,
@@ -27,12 +27,6 @@ const CAPACITY: usize = 16;
 /// Records in the meadow blob.
 const RECORDS: usize = 11;
 
-/// Instructions per SysTick tick, times 10 (mps2: 40; micro:bit: 62.5).
-#[cfg(not(armv6m))]
-const TENTHS_PER_TICK: u32 = 400;
-#[cfg(armv6m)]
-const TENTHS_PER_TICK: u32 = 625;
-
 fn fail(why: &str) -> ! {
     hprintln!("FAIL: blob: {}", why);
     debug::exit(debug::EXIT_FAILURE);
@@ -47,21 +41,11 @@ fn check(ok: bool, why: &str) {
     }
 }
 
-/// Instructions retired by one call of `f`.
-fn instructions<R>(syst: &mut SYST, f: impl FnOnce() -> R) -> (u32, R) {
-    syst.clear_current();
-    let start = SYST::get_current();
-    let r = core::hint::black_box(f());
-    let end = SYST::get_current();
-    let ticks = start.wrapping_sub(end) & 0x00FF_FFFF;
-    (ticks * TENTHS_PER_TICK / 10, r)
-}
-
 /// Runs the checks; exits with a failure on any mismatch.
 #[inline(never)]
-pub fn run(syst: &mut SYST) {
-    let (per_record, path) = streamed(syst);
-    whole(syst, &path);
+pub fn run(meter: &Meter) {
+    let (per_record, path) = streamed(meter);
+    whole(meter, &path);
     against_loader(&path);
     track(&path);
     corrupted();
@@ -84,7 +68,7 @@ pub fn run(syst: &mut SYST) {
 /// Header and origin in one chunk, then one record per chunk (each timed),
 /// then the CRC.
 #[inline(never)]
-fn streamed(syst: &mut SYST) -> ([u32; RECORDS], Path<f32, CAPACITY>) {
+fn streamed(meter: &Meter) -> ([u32; RECORDS], Path<f32, CAPACITY>) {
     let mut d = Decoder::<f32, CAPACITY>::new();
     let head = HEADER_LEN + ORIGIN_LEN;
     check(
@@ -102,7 +86,7 @@ fn streamed(syst: &mut SYST) -> ([u32; RECORDS], Path<f32, CAPACITY>) {
     for (k, cost) in costs.iter_mut().enumerate() {
         let at = head + k * RECORD_LEN;
         let chunk = BLOB.get(at..at + RECORD_LEN).unwrap_or_default();
-        let (n, r) = instructions(syst, || d.feed(chunk));
+        let (n, r) = meter.instructions(|| d.feed(chunk));
         check(matches!(r, Ok(Progress::NeedMore)), "record");
         *cost = n;
     }
@@ -122,8 +106,8 @@ fn streamed(syst: &mut SYST) -> ([u32; RECORDS], Path<f32, CAPACITY>) {
 
 /// The whole blob in one call, and in 7-byte chunks: the same path.
 #[inline(never)]
-fn whole(syst: &mut SYST, streamed: &Path<f32, CAPACITY>) {
-    let (n, r) = instructions(syst, || decode::<f32, CAPACITY>(BLOB));
+fn whole(meter: &Meter, streamed: &Path<f32, CAPACITY>) {
+    let (n, r) = meter.instructions(|| decode::<f32, CAPACITY>(BLOB));
     hprintln!("{:<44} {:>7}", "blob: decode 315 bytes, 11 segments", n);
     check(r.is_ok_and(|(p, _)| p == *streamed), "whole decode");
     let mut d = Decoder::<f32, CAPACITY>::new();
