@@ -7,7 +7,7 @@
 # FILE is a source file under src/ (default: every file in SAFETY_FILES).
 # Each file is run against the test targets that judge it (`tests_for`
 # below; MUTANTS_TEST_ARGS overrides them), with `--jobs 1` under `nice`
-# and a timeout per mutant (MUTANTS_TIMEOUT seconds, default 120). Results
+# and a timeout per mutant (MUTANTS_TIMEOUT seconds, default 60). Results
 # land in target/mutants/<first file of the group>/mutants.out.
 #
 # Per file it prints caught / missed / unviable / timeout, the missed
@@ -99,7 +99,7 @@ for args in "${groups[@]}"; do
   # cargo-mutants exits 2 when mutants are missed, 3 on timeouts: the
   # counts below decide, so only a failure to run at all (1, 4) stops here.
   rc=0
-  nice -n 15 cargo mutants --jobs 1 --timeout "${MUTANTS_TIMEOUT:-120}" \
+  nice -n 15 cargo mutants --jobs 1 --timeout "${MUTANTS_TIMEOUT:-60}" \
     --no-shuffle --colors never "${file_args[@]}" -o "$out" -- "${test_args[@]}" || rc=$?
   if [ "$rc" -ne 0 ] && [ "$rc" -ne 2 ] && [ "$rc" -ne 3 ]; then
     echo "cargo mutants failed on ${members[*]} (exit $rc)" >&2
