@@ -345,6 +345,29 @@ mod tests {
     }
 
     #[test]
+    fn chained_form_derivative_on_a_clothoid() {
+        // As above on a clothoid, kappa(s) = kappa0 + sigma s: the model's
+        // d' = (1 - kappa d) tan(theta), theta' = u (1 - kappa d) / cos(theta)
+        // - kappa (per unit station), with the law's u, must give dz3/ds = w
+        // for z3 = (1 - kappa(s) d) tan(theta).
+        let (k_d, k_theta) = (0.3, 0.8);
+        let mut law = FrenetFeedback::<f64>::new(k_d, k_theta).unwrap();
+        for (d, th, k0, sigma) in [(0.4, -0.3, 0.05, 0.02), (-0.6, 0.4, -0.1, -0.05)] {
+            let mut i = input(d, th, k0);
+            i.sharpness = sigma;
+            let u = law.curvature(&i);
+            let kappa = |s: f64| k0 + sigma * s;
+            let z3 = |s: f64, d: f64, th: f64| (1.0 - kappa(s) * d) * libm::tan(th);
+            let h = 1e-6;
+            let dd = libm::tan(th) * (1.0 - k0 * d) * h;
+            let dth = (u * (1.0 - k0 * d) / libm::cos(th) - k0) * h;
+            let dz3 = (z3(h, d + dd, th + dth) - z3(0.0, d, th)) / h;
+            let w = -k_d * d - k_theta * z3(0.0, d, th);
+            assert!((dz3 - w).abs() < 1e-5, "{dz3} vs {w}");
+        }
+    }
+
+    #[test]
     fn integral_checks_and_windup() {
         let law = FrenetFeedback::<f64>::new(0.09, 0.6).unwrap();
         assert!(law.with_integral(0.06, 0.05, 0.5).is_err()); // k_i >= k_theta k_d
