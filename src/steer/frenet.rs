@@ -454,7 +454,8 @@ mod tests {
                 "{omega} {zeta}"
             );
         }
-        for (omega, zeta) in [(f64::NAN, 1.0), (0.3, f64::INFINITY)] {
+        // Non-finite wins over out of range, as in `new`.
+        for (omega, zeta) in [(f64::NAN, 1.0), (0.3, f64::INFINITY), (f64::NAN, -1.0)] {
             assert_eq!(
                 FrenetFeedback::<f64>::from_response(omega, zeta),
                 Err(SteerError::NonFinite)
@@ -571,6 +572,7 @@ mod tests {
             .with_integral(0.01, 0.05, 0.5)
             .unwrap();
         law.curvature(&input(0.5, 0.0, 0.0));
+        assert_eq!(law.integral(), 0.0);
         law.curvature(&input(-0.5, 0.0, 0.0));
         assert_eq!(law.integral(), 0.0);
         law.curvature(&input(0.499, 0.0, 0.0));
