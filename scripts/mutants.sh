@@ -2,7 +2,7 @@
 # Mutation testing of the safety-relevant core with cargo-mutants, and the
 # catch rate per file.
 #
-#   scripts/mutants.sh [--check] [FILE...]
+#   scripts/mutants.sh [--check] [--iterate] [FILE...]
 #
 # FILE is a source file under src/ (default: every file in SAFETY_FILES).
 # Each file is run against the test targets that judge it (`tests_for`
@@ -15,7 +15,11 @@
 # catch rate over viable, non-equivalent mutants:
 #   rate = (caught + timeout) / (caught + timeout + missed - equivalent)
 # (a mutant whose tests hang has been noticed). With --check the script
-# exits 1 if any missed mutant is not listed as equivalent.
+# exits 1 if any missed mutant is not listed as equivalent. With --iterate
+# only the mutants not caught (or unviable) in earlier runs into the same
+# output directory are tested again (cargo-mutants --iterate), and the
+# counts add up all of those runs: use it only after adding tests, with
+# the mutated source unchanged since the first run.
 #
 # Needs `cargo install cargo-mutants --locked`.
 set -euo pipefail
@@ -51,10 +55,12 @@ tests_for() {
 }
 
 check=0
+iterate=()
 files=()
 for arg in "$@"; do
   case "$arg" in
     --check) check=1 ;;
+    --iterate) iterate=(--iterate) ;;
     -h | --help) sed -n '2,20p' "$0"; exit 0 ;;
     *) files+=("$arg") ;;
   esac
@@ -96,19 +102,37 @@ for args in "${groups[@]}"; do
   file_args=()
   for file in "${members[@]}"; do file_args+=(-f "$file"); done
   echo "== mutants: ${members[*]} (cargo test ${test_args[*]})"
+  dir="$out/mutants.out"
+  # Earlier runs' outcomes, kept for --iterate (cargo-mutants itself keeps
+  # caught and unviable together in previously_caught.txt).
+  for kind in caught unviable timeout; do
+    touch "$out/all-$kind.txt"
+    if [ ${#iterate[@]} -gt 0 ] && [ -f "$dir/$kind.txt" ]; then
+      sort -u "$out/all-$kind.txt" "$dir/$kind.txt" -o "$out/all-$kind.txt"
+    elif [ ${#iterate[@]} -eq 0 ]; then
+      : >"$out/all-$kind.txt"
+    fi
+  done
   # cargo-mutants exits 2 when mutants are missed, 3 on timeouts: the
   # counts below decide, so only a failure to run at all (1, 4) stops here.
   rc=0
   nice -n 15 cargo mutants --jobs 1 --timeout "${MUTANTS_TIMEOUT:-60}" \
-    --no-shuffle --colors never "${file_args[@]}" -o "$out" -- "${test_args[@]}" || rc=$?
+    --no-shuffle --colors never "${iterate[@]}" "${file_args[@]}" -o "$out" -- "${test_args[@]}" || rc=$?
   if [ "$rc" -ne 0 ] && [ "$rc" -ne 2 ] && [ "$rc" -ne 3 ]; then
     echo "cargo mutants failed on ${members[*]} (exit $rc)" >&2
     exit "$rc"
   fi
-  dir="$out/mutants.out"
+  for kind in caught unviable timeout; do
+    sort -u "$out/all-$kind.txt" "$dir/$kind.txt" -o "$out/all-$kind.txt"
+  done
   for file in "${members[@]}"; do
-    # This file's lines of list $1 (one mutant per line).
-    of() { [ -f "$dir/$1" ] && grep -F "$file:" "$dir/$1" || true; }
+    # This file's lines of list $1 (one mutant per line): caught, unviable
+    # and timeout over all runs kept, missed from this run.
+    of() {
+      local list="$dir/$1"
+      [ "$1" != missed.txt ] && list="$out/all-$1"
+      [ -f "$list" ] && grep -F "$file:" "$list" || true
+    }
     count() { of "$1" | grep -c . || true; }
     caught=$(count caught.txt)
     missed=$(count missed.txt)
