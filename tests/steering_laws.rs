@@ -252,3 +252,82 @@ fn differential_drive_command() {
     let (l, r) = cmd.wheel_speeds;
     assert!((l - (1.0 - k * 0.2)).abs() < 1e-12 && (r - (1.0 + k * 0.2)).abs() < 1e-12);
 }
+
+#[test]
+fn pure_pursuit_lookahead_schedule_between_its_bounds() {
+    // l(v) = clamp(base + time * v, min, max) (module docs, common practice):
+    // tractor 2 m + 1 s * v within 3-6 m: 5 m at 3 m/s, 4.5 m at 2.5 m/s,
+    // reversing speeds by magnitude; the bounds at and beyond their edges.
+    let pp = PurePursuit::<f64>::tractor();
+    assert_eq!(pp.lookahead(3.0), 5.0);
+    assert_eq!(pp.lookahead(2.5), 4.5);
+    assert_eq!(pp.lookahead(-3.0), 5.0);
+    assert_eq!(pp.lookahead(1.0), 3.0);
+    assert_eq!(pp.lookahead(0.5), 3.0);
+    assert_eq!(pp.lookahead(4.0), 6.0);
+    assert_eq!(pp.lookahead(4.5), 6.0);
+    let robot = PurePursuit::<f64>::small_robot(); // 0.4 + 0.8 v within 0.6-2
+    assert!((robot.lookahead(1.0) - 1.2).abs() < 1e-15);
+    let road = PurePursuit::<f64>::road_vehicle(); // 3 + 0.8 v within 5-15
+    assert!((road.lookahead(10.0) - 11.0).abs() < 1e-12);
+}
+
+#[test]
+fn pure_pursuit_goal_at_the_rear_axle_gives_no_command() {
+    // kappa = 2 y_g / l^2 (Coulter 1992) is undefined for l -> 0: a goal
+    // within sqrt(EPSILON) of the rear axle gives 0; just beyond, the formula.
+    let mut pp = PurePursuit::<f64>::tractor();
+    let edge = f64::EPSILON.sqrt(); // l^2 = EPSILON exactly
+    let at = |pp: &mut PurePursuit<f64>, goal| {
+        pp.curvature(&SteeringInput {
+            goal,
+            ..Default::default()
+        })
+    };
+    assert_eq!(at(&mut pp, (0.0, edge)), 0.0);
+    assert_eq!(at(&mut pp, (0.0, 0.0)), 0.0);
+    let beyond = 2.0 * edge;
+    let k = at(&mut pp, (0.0, beyond));
+    assert!((k - 2.0 / beyond).abs() < 1e-6 * k, "{k}");
+}
+
+#[test]
+fn stanley_arc_offset_for_a_control_point_between_and_beyond_the_axles() {
+    // Hand geometry on an arc of radius R: the control point a ahead of the
+    // rear axle is on the arc when the rear axle runs at sqrt(R^2 - a^2); the
+    // front axle L ahead then runs at sqrt(R^2 - a^2 + L^2), its cross-track
+    // R - sqrt(R^2 - a^2 + L^2) (left positive, centre on the left).
+    for (kappa, a, l) in [
+        (0.05f64, 1.0f64, 2.5f64),
+        (0.05, 4.0, 2.5),
+        (-0.05, 1.0, 2.5),
+        (0.2, 3.0, 0.4),
+    ] {
+        let r = 1.0 / kappa.abs();
+        let want = kappa.signum() * (r - (r * r - a * a + l * l).sqrt());
+        let got = Stanley::<f64>::arc_offset(kappa, a, l);
+        assert!(
+            (got - want).abs() < 1e-12,
+            "{kappa} {a} {l}: {got} vs {want}"
+        );
+    }
+}
+
+#[test]
+fn stanley_without_a_steered_axle_gives_no_command() {
+    // The law needs the axle it steers (reference point > 0); at 0 (or
+    // behind) it returns 0, just ahead of it the paper's law.
+    let mut st = Stanley::<f64>::tractor().with_rear_offset(false);
+    let input = |reference_point| SteeringInput {
+        cross_track: -1.0,
+        speed: 2.0,
+        reference_point,
+        dt: 0.05,
+        ..Default::default()
+    };
+    assert_eq!(st.curvature(&input(0.0)), 0.0);
+    assert_eq!(st.curvature(&input(-1.0)), 0.0);
+    // delta = atan(k e / (k_soft + v)) = atan(1 / 3), kappa = tan(delta) / L.
+    let k = st.curvature(&input(2.5));
+    assert!((k - (1.0 / 3.0) / 2.5).abs() < 1e-12, "{k}");
+}

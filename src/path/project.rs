@@ -211,3 +211,50 @@ fn refine<T: Real>(mut a: T, mut b: T, fa: T, fb: T, probe_at: &impl Fn(T) -> Pr
     }
     (u, last.dist2)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::path::anchored::PathBuilder;
+    use crate::path::pose::Pose;
+    use crate::path::segment::Segment;
+
+    #[test]
+    fn arc_of_several_laps_finds_the_foot_on_the_lap_in_the_window() {
+        // Hand geometry: an arc of radius 1 m (kappa = 1) from the origin
+        // heading +x, four laps long, centre (0, 1). A point 1.2 m from the
+        // centre at pi/6 of turn has its feet at u = pi/6 + 2 pi n on the
+        // circle, 0.2 m away. A window covering part of lap n holds only
+        // that lap's foot.
+        let lap = 2.0 * core::f64::consts::PI;
+        let path = PathBuilder::<f64, 2>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::arc(4.0 * lap, 1.0).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let phi = core::f64::consts::FRAC_PI_6;
+        let (qx, qy) = (1.2 * libm::sin(phi), 1.0 - 1.2 * libm::cos(phi));
+        for (lo, hi, n) in [
+            (0.0, 0.5, 0.0),
+            (0.5, 1.5, 1.0),
+            (1.9, 2.2, 2.0),
+            (2.5, 3.5, 3.0),
+            (3.05, 4.0, 3.0),
+        ] {
+            let (lo, hi) = (lo * lap, hi * lap);
+            let foot = nearest_on_segment(&path, 0, lo, hi, qx, qy);
+            let want = phi + n * lap;
+            assert!(
+                (foot.offset - want).abs() < 1e-9,
+                "[{lo}, {hi}]: {}",
+                foot.offset
+            );
+            assert!((foot.dist2 - 0.04).abs() < 1e-12, "{}", foot.dist2);
+        }
+        // No foot inside [3.1, 4] laps: the nearer end, lo (at 36 degrees of
+        // turn, 6 degrees past the foot; hi is 30 degrees before it).
+        let (lo, hi) = (3.1 * lap, 4.0 * lap);
+        assert_eq!(nearest_on_segment(&path, 0, lo, hi, qx, qy).offset, lo);
+    }
+}

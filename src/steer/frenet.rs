@@ -345,6 +345,29 @@ mod tests {
     }
 
     #[test]
+    fn chained_form_derivative_on_a_clothoid() {
+        // As above on a clothoid, kappa(s) = kappa0 + sigma s: the model's
+        // d' = (1 - kappa d) tan(theta), theta' = u (1 - kappa d) / cos(theta)
+        // - kappa (per unit station), with the law's u, must give dz3/ds = w
+        // for z3 = (1 - kappa(s) d) tan(theta).
+        let (k_d, k_theta) = (0.3, 0.8);
+        let mut law = FrenetFeedback::<f64>::new(k_d, k_theta).unwrap();
+        for (d, th, k0, sigma) in [(0.4, -0.3, 0.05, 0.02), (-0.6, 0.4, -0.1, -0.05)] {
+            let mut i = input(d, th, k0);
+            i.sharpness = sigma;
+            let u = law.curvature(&i);
+            let kappa = |s: f64| k0 + sigma * s;
+            let z3 = |s: f64, d: f64, th: f64| (1.0 - kappa(s) * d) * libm::tan(th);
+            let h = 1e-6;
+            let dd = libm::tan(th) * (1.0 - k0 * d) * h;
+            let dth = (u * (1.0 - k0 * d) / libm::cos(th) - k0) * h;
+            let dz3 = (z3(h, d + dd, th + dth) - z3(0.0, d, th)) / h;
+            let w = -k_d * d - k_theta * z3(0.0, d, th);
+            assert!((dz3 - w).abs() < 1e-5, "{dz3} vs {w}");
+        }
+    }
+
+    #[test]
     fn integral_checks_and_windup() {
         let law = FrenetFeedback::<f64>::new(0.09, 0.6).unwrap();
         assert!(law.with_integral(0.06, 0.05, 0.5).is_err()); // k_i >= k_theta k_d
@@ -409,6 +432,168 @@ mod tests {
         assert!(law.curvature(&input(0.7, -0.1, 1.25)) < -1.0);
         // The mirror case inside a right arc turns left.
         assert!(law.curvature(&input(-0.7, 0.0, -1.25)) > 1.0);
+    }
+
+    #[test]
+    fn gains_from_a_second_order_response() {
+        // d'' + k_theta d' + k_d d = 0 against the standard second-order form
+        // s^2 + 2 zeta omega s + omega^2 (e.g. Ogata, Modern Control
+        // Engineering, on second-order systems; from memory): omega = 0.3 /m,
+        // zeta = 0.7 give k_d = 0.09 /m^2 and k_theta = 0.42 /m.
+        let mut law = FrenetFeedback::<f64>::from_response(0.3, 0.7).unwrap();
+        // On a straight line u = cos^3(theta) (-k_d d - k_theta tan(theta)):
+        // d = 1 m alone gives -k_d, theta alone -k_theta cos^3 tan.
+        assert!((law.curvature(&input(1.0, 0.0, 0.0)) + 0.09).abs() < 1e-15);
+        let th = 0.1f64;
+        let want = -0.42 * libm::pow(libm::cos(th), 3.0) * libm::tan(th);
+        assert!((law.curvature(&input(0.0, th, 0.0)) - want).abs() < 1e-15);
+        for (omega, zeta) in [(0.0, 1.0), (-0.3, 1.0), (0.3, 0.0), (0.3, -1.0)] {
+            assert_eq!(
+                FrenetFeedback::<f64>::from_response(omega, zeta),
+                Err(SteerError::OutOfRange),
+                "{omega} {zeta}"
+            );
+        }
+        // Non-finite wins over out of range, as in `new`.
+        for (omega, zeta) in [(f64::NAN, 1.0), (0.3, f64::INFINITY), (f64::NAN, -1.0)] {
+            assert_eq!(
+                FrenetFeedback::<f64>::from_response(omega, zeta),
+                Err(SteerError::NonFinite)
+            );
+        }
+    }
+
+    #[test]
+    fn left_normal_from_the_path_direction() {
+        // Left normal of a unit tangent: rotated +90 degrees.
+        let normal = |t: (f64, f64)| {
+            FrenetFeedback::<f64>::left_normal(&SteeringInput {
+                path_direction: t,
+                ..Default::default()
+            })
+        };
+        assert_eq!(normal((1.0, 0.0)), (0.0, 1.0));
+        assert_eq!(normal((0.0, 1.0)), (-1.0, 0.0));
+        assert_eq!(normal((0.0, -1.0)), (1.0, 0.0));
+        assert_eq!(normal((-1.0, 0.0)), (0.0, -1.0));
+        // Unknown direction (0, 0): the fixed normal of the path frame. The
+        // edge is |t|^2 = 1/2 (a unit tangent is far above it): at the edge
+        // the fixed normal, just above it the tangent's own.
+        assert_eq!(normal((0.0, 0.0)), (0.0, 1.0));
+        assert_eq!(normal((0.5, 0.5)), (0.0, 1.0));
+        assert_eq!(normal((0.5, 0.5 + 1e-9)), (-(0.5 + 1e-9), 0.5));
+    }
+
+    #[test]
+    fn edge_of_the_frame_domain_near_the_centre_of_curvature() {
+        // The chained form needs 1 - kappa d > 0; below MIN_FRAME_SCALE the
+        // law turns at full curvature out towards the path (module docs).
+        // kappa = 0.5 1/m: 1 - kappa d = 0.19 (inside the edge) and 0.21
+        // (outside it), on both sides of a left and a right arc.
+        let mut law = FrenetFeedback::<f64>::tractor();
+        let d_at = |scale: f64, kappa: f64| (1.0 - scale) / kappa;
+        for kappa in [0.5, -0.5] {
+            let beyond = law.curvature(&input(d_at(0.19, kappa), 0.0, kappa));
+            assert_eq!(beyond, -kappa.signum() * FULL_TURN, "{kappa}");
+            let within = law.curvature(&input(d_at(0.21, kappa), 0.0, kappa));
+            assert!(within.is_finite() && within.abs() < FULL_TURN, "{within}");
+            // Within the domain the law still turns out, away from the centre.
+            assert!(within * kappa < 0.0, "{within}");
+        }
+    }
+
+    #[test]
+    fn rear_axle_on_the_concentric_circle_of_the_control_point() {
+        // Arc of radius R = 5 m, control point a = 2 m ahead of the rear
+        // axle. Hand geometry: with the control point on the arc and the body
+        // tangent to the circle the rear axle runs on, that circle has radius
+        // sqrt(R^2 - a^2) = sqrt(21) m, 5 - sqrt(21) = 0.417 m left of the
+        // arc. There the law must command that circle's curvature exactly.
+        let mut law = FrenetFeedback::<f64>::tractor();
+        for kappa in [0.2f64, -0.2] {
+            let r = 1.0 / kappa.abs();
+            let inner = libm::sqrt(r * r - 4.0);
+            let on = SteeringInput {
+                cross_track: kappa.signum() * (r - inner),
+                curvature: kappa,
+                control_point: 2.0,
+                speed: 2.0,
+                dt: 0.05,
+                ..Default::default()
+            };
+            let u = law.curvature(&on);
+            assert!((u - kappa.signum() / inner).abs() < 1e-12, "{u}");
+        }
+    }
+
+    #[test]
+    fn integral_advances_with_the_station_rate_of_the_frenet_model() {
+        // Frenet-frame kinematics (module docs, the model of Samson 1995):
+        // s' = v cos(theta) / (1 - kappa d). One step of dt adds d * ds with
+        // ds = v dt cos(theta) / (1 - kappa d): v = 2 m/s, dt = 0.05 s,
+        // theta = 0.3 rad, kappa = 0.2 1/m, d = 0.4 m -> 1 - kappa d = 0.92.
+        let mut law = FrenetFeedback::<f64>::tractor()
+            .with_integral(0.01, 0.05, 0.5)
+            .unwrap();
+        let ds = 2.0 * 0.05 * libm::cos(0.3) / 0.92;
+        // Driving north (left normal -x, so the integral is stored along x)
+        // and north-north-east (both components).
+        let mut step = input(0.4, 0.3, 0.2);
+        for direction in [(0.0, 1.0), (0.6, 0.8)] {
+            law.reset();
+            step.path_direction = direction;
+            law.curvature(&step);
+            assert!(
+                (law.integral() - 0.4 * ds).abs() < 1e-15,
+                "{}",
+                law.integral()
+            );
+            law.curvature(&step);
+            assert!(
+                (law.integral() - 0.8 * ds).abs() < 1e-15,
+                "{}",
+                law.integral()
+            );
+        }
+        // Reversing speed: the distance travelled is |v| dt.
+        let mut back = FrenetFeedback::<f64>::tractor()
+            .with_integral(0.01, 0.05, 0.5)
+            .unwrap();
+        let mut rev = step;
+        rev.speed = -2.0;
+        back.curvature(&rev);
+        assert!((back.integral() - 0.4 * ds).abs() < 1e-15);
+    }
+
+    #[test]
+    fn integral_band_edge_and_no_integral_without_gain() {
+        // Integrates while |d| < band (0.5 m): at 0.5 m not, just inside yes.
+        let mut law = FrenetFeedback::<f64>::tractor()
+            .with_integral(0.01, 0.05, 0.5)
+            .unwrap();
+        law.curvature(&input(0.5, 0.0, 0.0));
+        assert_eq!(law.integral(), 0.0);
+        law.curvature(&input(-0.5, 0.0, 0.0));
+        assert_eq!(law.integral(), 0.0);
+        law.curvature(&input(0.499, 0.0, 0.0));
+        assert!((law.integral() - 0.499 * 0.1).abs() < 1e-15); // ds = 2 * 0.05
+                                                               // Anti-windup: the state stops at |k_i int d ds| = limit (0.05 1/m),
+                                                               // i.e. 5 m^2, in any direction on the ground (here north-north-east).
+        let mut long = FrenetFeedback::<f64>::tractor()
+            .with_integral(0.01, 0.05, 0.5)
+            .unwrap();
+        let mut nne = input(0.3, 0.0, 0.0);
+        nne.path_direction = (0.6, 0.8);
+        for _ in 0..400 {
+            long.curvature(&nne); // 400 * 0.3 * 0.1 = 12 m^2 unclamped
+        }
+        assert!((long.integral() - 5.0).abs() < 1e-12, "{}", long.integral());
+        // Without an integral term nothing is integrated.
+        let mut plain = FrenetFeedback::<f64>::tractor();
+        for _ in 0..10 {
+            plain.curvature(&input(0.1, 0.0, 0.0));
+        }
+        assert_eq!(plain.integral(), 0.0);
     }
 
     #[test]

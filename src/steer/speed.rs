@@ -193,6 +193,39 @@ mod tests {
     }
 
     #[test]
+    fn part_of_a_clothoid_in_view_ends_at_the_braking_horizon() {
+        // Braking distance from 4 m/s at 0.4 m/s^2: v^2 / (2 a) = 20 m
+        // (constant-deceleration kinematics); the scan looks SCAN_MARGIN
+        // beyond it (module docs). A line of 10 m, then a clothoid 0.02 ->
+        // 0.32 1/m over 30 m (sigma = 0.01 1/m^2) that runs past the horizon:
+        // the part in view ends at the horizon, where kappa = 0.02 + 0.01 *
+        // (horizon - 10), and that kappa's limit sqrt(a_lat / kappa) (v^2 / r
+        // = a_lat) is applied at the clothoid's start, v^2 + 2 a x.
+        let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5)
+            .unwrap()
+            .with_max_deceleration(0.4)
+            .unwrap()
+            .with_max_lateral_acceleration(0.3)
+            .unwrap();
+        let path = PathBuilder::<f64, 4>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::line(10.0).unwrap())
+            .unwrap()
+            .push(Segment::transition(30.0, 0.02, 0.32).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let horizon = 4.0 * 4.0 / (2.0 * 0.4) + SCAN_MARGIN;
+        for station in [0.0, 3.0] {
+            let x = 10.0 - station; // distance to the clothoid
+            let kappa = 0.02 + 0.01 * (horizon - x);
+            let want = libm::sqrt(0.3 / kappa + 2.0 * 0.4 * x);
+            let cap = speed_cap(&path, &v, station, None);
+            assert!((cap - want).abs() < 1e-12, "{station}: {cap} vs {want}");
+        }
+    }
+
+    #[test]
     fn stop_and_bounded_scan() {
         let v = Vehicle::<f64>::front_steered(2.5, 0.6, 0.5).unwrap();
         let path = PathBuilder::<f64, 64>::new(Pose::new(0.0, 0.0, 0.0)).unwrap();
