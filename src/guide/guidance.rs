@@ -350,7 +350,7 @@ struct Situation<T> {
     leg: Leg<T>,
     cp: OnLeg<T>,
     tracking: Tracking<T>,
-    /// `(sin, cos)` of the fix's body heading (one `sin_cos` per cycle).
+    /// `(sin, cos)` of the fix's body heading (from the fix checks).
     body: (T, T),
     /// `true` if `cp` is the tracker's foot (its lookahead then starts there).
     from_foot: bool,
@@ -643,7 +643,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             }
         };
         let on_leg = t.foot.segment >= leg.first && t.foot.segment <= leg.last;
-        let body = f.heading.sin_cos();
+        // The dead-reckoned heading vector of the fix checks: no `sin_cos`.
+        let body = self.monitor.direction(f.heading);
         let travel = Self::travel(body, leg.direction);
         let mut from_foot = on_leg;
         let mut cp = if on_leg {
