@@ -558,7 +558,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                 self.monitor.forget_accepted();
                 self.monitor.accept(f);
                 self.speed = f.speed;
-                self.drive(path, on_line, sit, dt)
+                self.drive(path, &on_line, &sit, dt)
             }
             found => {
                 self.reason = Some(Self::why_not(found.is_some()));
@@ -579,7 +579,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         match self.locate(path, &on_line) {
             Some(sit) if self.within_limits(&sit.cp) => {
                 self.reason = None;
-                self.drive(path, on_line, sit, dt)
+                self.drive(path, &on_line, &sit, dt)
             }
             found => {
                 self.reason = Some(Self::why_not(found.is_some()));
@@ -704,10 +704,11 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     fn drive<const N: usize>(
         &mut self,
         path: &Path<T, N>,
-        f: Fix<T>,
-        sit: Situation<T>,
+        f: &Fix<T>,
+        sit: &Situation<T>,
         dt: T,
     ) -> Command<T> {
+        // By reference: the tracking state is copied once, into the command.
         let Situation {
             leg,
             cp,
@@ -715,11 +716,12 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             body,
             from_foot,
         } = sit;
+        let (leg, cp, body, from_foot) = (*leg, *cp, *body, *from_foot);
         let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
         if last_leg && cp.station >= leg.end - self.config.end_tolerance {
             self.mode = Mode::EndOfPath;
             let mut cmd = self.hold(GuidanceStatus::EndOfPath, true);
-            cmd.tracking = Some(tracking);
+            cmd.tracking = Some(*tracking);
             return cmd;
         }
         let sign = leg.direction.sign::<T>();
@@ -819,7 +821,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         lim: Limited<T>,
         limit: T,
         status: GuidanceStatus,
-        tracking: Option<Tracking<T>>,
+        tracking: Option<&Tracking<T>>,
     ) -> Command<T> {
         let v = self.speed.clamp_to(-limit, limit);
         Command {
@@ -830,7 +832,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             speed_limit: limit,
             status,
             reason: None,
-            tracking,
+            tracking: tracking.copied(),
         }
     }
 
