@@ -350,7 +350,7 @@ struct Situation<T> {
     leg: Leg<T>,
     cp: OnLeg<T>,
     tracking: Tracking<T>,
-    /// `(sin, cos)` of the fix's body heading (one `sin_cos` per cycle).
+    /// `(sin, cos)` of the fix's body heading (from the fix checks).
     body: (T, T),
     /// `true` if `cp` is the tracker's foot (its lookahead then starts there).
     from_foot: bool,
@@ -558,7 +558,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                 self.monitor.forget_accepted();
                 self.monitor.accept(f);
                 self.speed = f.speed;
-                self.drive(path, on_line, sit, dt)
+                self.drive(path, &on_line, &sit, dt)
             }
             found => {
                 self.reason = Some(Self::why_not(found.is_some()));
@@ -579,7 +579,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         match self.locate(path, &on_line) {
             Some(sit) if self.within_limits(&sit.cp) => {
                 self.reason = None;
-                self.drive(path, on_line, sit, dt)
+                self.drive(path, &on_line, &sit, dt)
             }
             found => {
                 self.reason = Some(Self::why_not(found.is_some()));
@@ -643,7 +643,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             }
         };
         let on_leg = t.foot.segment >= leg.first && t.foot.segment <= leg.last;
-        let body = f.heading.sin_cos();
+        // The dead-reckoned heading vector of the fix checks: no `sin_cos`.
+        let body = self.monitor.direction(f.heading);
         let travel = Self::travel(body, leg.direction);
         let mut from_foot = on_leg;
         let mut cp = if on_leg {
@@ -703,10 +704,11 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     fn drive<const N: usize>(
         &mut self,
         path: &Path<T, N>,
-        f: Fix<T>,
-        sit: Situation<T>,
+        f: &Fix<T>,
+        sit: &Situation<T>,
         dt: T,
     ) -> Command<T> {
+        // By reference: the tracking state is copied once, into the command.
         let Situation {
             leg,
             cp,
@@ -714,11 +716,12 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             body,
             from_foot,
         } = sit;
+        let (leg, cp, body, from_foot) = (*leg, *cp, *body, *from_foot);
         let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
         if last_leg && cp.station >= leg.end - self.config.end_tolerance {
             self.mode = Mode::EndOfPath;
             let mut cmd = self.hold(GuidanceStatus::EndOfPath, true);
-            cmd.tracking = Some(tracking);
+            cmd.tracking = Some(*tracking);
             return cmd;
         }
         let sign = leg.direction.sign::<T>();
@@ -818,7 +821,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         lim: Limited<T>,
         limit: T,
         status: GuidanceStatus,
-        tracking: Option<Tracking<T>>,
+        tracking: Option<&Tracking<T>>,
     ) -> Command<T> {
         let v = self.speed.clamp_to(-limit, limit);
         Command {
@@ -829,7 +832,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             speed_limit: limit,
             status,
             reason: None,
-            tracking,
+            tracking: tracking.copied(),
         }
     }
 

@@ -219,20 +219,83 @@ impl<T> Verdict<T> {
 /// The fix checks and their memory.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct FixMonitor<T> {
-    accepted: Option<Fix<T>>,
-    raw: Option<Fix<T>>,
+    accepted: Option<Oriented<T>>,
+    raw: Option<Oriented<T>>,
     /// Consecutive finite, fresh fixes consistent with the one before.
     pub(crate) agreeing: u32,
     /// The last new fix, if it was usable when it came: dead reckoning on
     /// cycles without a new fix starts from it.
-    held: Option<Fix<T>>,
+    held: Option<Oriented<T>>,
     /// Why the last new fix was not usable (for cycles without a new one).
     refused: Reason,
+    /// The heading of the last verdict's fix (rad; NaN: none) and its unit
+    /// vector `(sin, cos)` (see [`FixMonitor::direction`]).
+    last: (T, (T, T)),
 }
 
-fn predicts<T: Real>(from: &Fix<T>, to: &Fix<T>, tol: T) -> bool {
+/// A fix with the unit vector of its heading, `(sin, cos)`: one `sin_cos`
+/// per new fix; dead reckoning rotates the vector by a series in the
+/// small turn instead of evaluating the trigonometry again.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Oriented<T> {
+    fix: Fix<T>,
+    dir: (T, T),
+}
+
+impl<T: Real> Oriented<T> {
+    fn of(fix: Fix<T>) -> Self {
+        Self {
+            fix,
+            dir: fix.heading.sin_cos(),
+        }
+    }
+}
+
+/// Largest angle (rad) [`rotate`] uses its series for: the first omitted
+/// terms (`a^10 / 10!`, `a^11 / 11!`) stay below half an ulp of `T`.
+fn series_limit<T: Real>() -> T {
+    if T::EPSILON > c(1e-10) {
+        c(0.5)
+    } else {
+        c(0.1)
+    }
+}
+
+/// `(sin a, cos a)` by the Taylor series (Horner in `a^2`, through `a^8`
+/// for the cosine and `a^9` for the sine), or `None` if `|a|` is beyond
+/// [`series_limit`] (or not finite). Within the limit it is exact to the
+/// rounding of `T` (truncation below `0.5^10 / 10! = 2.7e-10` in `f32`,
+/// `0.1^10 / 10! = 2.8e-17` in `f64`).
+fn small_sin_cos<T: Real>(a: T) -> Option<(T, T)> {
+    let within = a.abs() <= series_limit::<T>();
+    if !within {
+        return None;
+    }
+    let z = a * a;
+    let cos = T::ONE
+        - z * T::HALF
+            * (T::ONE
+                - z * c(1.0 / 12.0) * (T::ONE - z * c(1.0 / 30.0) * (T::ONE - z * c(1.0 / 56.0))));
+    let sin = a
+        * (T::ONE
+            - z * c(1.0 / 6.0)
+                * (T::ONE
+                    - z * c(1.0 / 20.0)
+                        * (T::ONE - z * c(1.0 / 42.0) * (T::ONE - z * c(1.0 / 72.0)))));
+    Some((sin, cos))
+}
+
+/// The unit vector `(sin, cos)` of `dir` turned counter-clockwise by `r = (sin a, cos a)`.
+fn rotate<T: Real>(dir: (T, T), r: (T, T)) -> (T, T) {
+    let (s, co) = dir;
+    let (rs, rc) = r;
+    (s * rc + co * rs, co * rc - s * rs)
+}
+
+fn predicts<T: Real>(from: &Oriented<T>, to: &Fix<T>, tol: T) -> bool {
+    let (s, co) = from.dir;
+    let from = &from.fix;
     let dt = to.time.seconds_since::<T>(from.time);
-    let (s, co) = from.heading.sin_cos();
     let px = from.x + from.speed * dt * co;
     let py = from.y + from.speed * dt * s;
     let ex = to.x - px;
@@ -248,6 +311,19 @@ impl<T: Real> FixMonitor<T> {
             agreeing: 0,
             held: None,
             refused: Reason::NoFix,
+            last: (c(f64::NAN), (T::ZERO, T::ONE)),
+        }
+    }
+
+    /// `(sin, cos)` of `heading` (rad): the unit vector dead reckoning
+    /// carried if `heading` is that of the last verdict's fix (no
+    /// trigonometry on the per-cycle path), else `sin_cos`.
+    pub(crate) fn direction(&self, heading: T) -> (T, T) {
+        let (h, dir) = self.last;
+        if h == heading {
+            dir
+        } else {
+            heading.sin_cos()
         }
     }
 
@@ -261,7 +337,8 @@ impl<T: Real> FixMonitor<T> {
 
     /// Marks `fix` as accepted (the guidance steered with it).
     pub(crate) fn accept(&mut self, fix: Fix<T>) {
-        self.accepted = Some(fix);
+        let dir = self.direction(fix.heading);
+        self.accepted = Some(Oriented { fix, dir });
     }
 
     /// Checks one cycle's fix update at time `now`; `curvature` (1/m) is
@@ -281,9 +358,10 @@ impl<T: Real> FixMonitor<T> {
             }
             FixUpdate::Unchanged => self.check_held(now, cfg, curvature),
             FixUpdate::New(f) => {
-                let verdict = self.check_new(f, now, cfg, curvature);
+                let f = Oriented::of(*f);
+                let verdict = self.check_new(&f, now, cfg, curvature);
                 match verdict {
-                    Verdict::Usable(_) => self.held = Some(*f),
+                    Verdict::Usable(_) => self.held = Some(f),
                     Verdict::Jumped(_) | Verdict::Unusable(_) => {
                         self.held = None;
                         self.refused = verdict.reason().unwrap_or(Reason::BadFix);
@@ -297,28 +375,33 @@ impl<T: Real> FixMonitor<T> {
     /// No new fix this cycle: the last one, dead-reckoned to `now`, while
     /// it is fresh. It was checked when it came; it is not counted again
     /// towards `agreeing`.
-    fn check_held(&self, now: Micros, cfg: &SupervisorConfig<T>, curvature: T) -> Verdict<T> {
+    fn check_held(&mut self, now: Micros, cfg: &SupervisorConfig<T>, curvature: T) -> Verdict<T> {
         let Some(f) = self.held else {
             return Verdict::Unusable(self.refused);
         };
-        let age = now.seconds_since::<T>(f.time);
+        let age = now.seconds_since::<T>(f.fix.time);
         if age > cfg.max_fix_age || age < -cfg.max_fix_age {
             return Verdict::Unusable(Reason::StaleFix);
         }
-        Verdict::Usable(extrapolate(&f, now, curvature))
+        let e = extrapolate(&f, now, curvature);
+        self.last = (e.fix.heading, e.dir);
+        Verdict::Usable(e.fix)
     }
 
     fn check_new(
         &mut self,
-        f: &Fix<T>,
+        of: &Oriented<T>,
         now: Micros,
         cfg: &SupervisorConfig<T>,
         curvature: T,
     ) -> Verdict<T> {
+        let f = &of.fix;
         let finite =
             f.x.is_finite() && f.y.is_finite() && f.heading.is_finite() && f.speed.is_finite();
         let age = now.seconds_since::<T>(f.time);
-        let backwards = self.raw.is_some_and(|r| f.time.micros_since(r.time) < 0);
+        let backwards = self
+            .raw
+            .is_some_and(|r| f.time.micros_since(r.fix.time) < 0);
         let fresh = age <= cfg.max_fix_age;
         // A fix stamped later than `now` by more than the allowed age is a
         // clock fault (a receiver time glitch). Kept as the last raw fix it
@@ -342,12 +425,12 @@ impl<T: Real> FixMonitor<T> {
             // Not counted towards re-acquisition, but remembered as the
             // last raw fix so the first good one after it can agree with it.
             self.agreeing = 0;
-            self.raw = Some(*f);
+            self.raw = Some(*of);
             return Verdict::Unusable(reason);
         }
         // Consistency with the previous raw fix (for re-acquisition).
         let agrees = self.raw.is_some_and(|r| {
-            let tol = cfg.max_jump + cfg.jump_growth * f.time.seconds_since::<T>(r.time);
+            let tol = cfg.max_jump + cfg.jump_growth * f.time.seconds_since::<T>(r.fix.time);
             predicts(&r, f, tol)
         });
         self.agreeing = if agrees {
@@ -355,11 +438,13 @@ impl<T: Real> FixMonitor<T> {
         } else {
             1
         };
-        self.raw = Some(*f);
-        let now_fix = extrapolate(f, now, curvature);
+        self.raw = Some(*of);
+        let now_fix = extrapolate(of, now, curvature);
+        self.last = (now_fix.fix.heading, now_fix.dir);
+        let now_fix = now_fix.fix;
         match self.accepted {
             Some(a) => {
-                let since = f.time.seconds_since::<T>(a.time).max(T::ZERO);
+                let since = f.time.seconds_since::<T>(a.fix.time).max(T::ZERO);
                 let tol = cfg.max_jump + cfg.jump_growth * since;
                 if predicts(&a, f, tol) {
                     Verdict::Usable(now_fix)
@@ -400,7 +485,12 @@ fn gate<T: Real>(q: &FixQuality<T>, cfg: &SupervisorConfig<T>) -> Result<(), Rea
 /// laws read that as a heading error and settle off the path on every
 /// curve (by `k_theta / k_d` times it for the Frenet law: 8 cm in the
 /// field scenario's headland turns).
-fn extrapolate<T: Real>(f: &Fix<T>, now: Micros, curvature: T) -> Fix<T> {
+///
+/// The heading's unit vector is turned by the series of [`small_sin_cos`]
+/// (exact to the rounding of `T` within [`series_limit`]; `sin_cos` of
+/// the headings beyond it).
+fn extrapolate<T: Real>(o: &Oriented<T>, now: Micros, curvature: T) -> Oriented<T> {
+    let f = &o.fix;
     let age = now.seconds_since::<T>(f.time).max(T::ZERO);
     let distance = f.speed * age;
     let turn = if curvature.is_finite() {
@@ -411,18 +501,28 @@ fn extrapolate<T: Real>(f: &Fix<T>, now: Micros, curvature: T) -> Fix<T> {
     // Chord of the arc: length distance * sinc(turn / 2), along the mid heading.
     let half = T::HALF * turn;
     let chord = distance * (T::ONE - half * half / c(6.0));
-    let (s, co) = (f.heading + half).sin_cos();
+    // Straight on (no turn): the vector as it is.
+    let (mid, end) = if half == T::ZERO {
+        (o.dir, o.dir)
+    } else if let Some(r) = small_sin_cos(half) {
+        let mid = rotate(o.dir, r);
+        (mid, rotate(mid, r))
+    } else {
+        ((f.heading + half).sin_cos(), (f.heading + turn).sin_cos())
+    };
+    let (s, co) = mid;
     // The extrapolated fix is stamped with the time it now stands for: it
     // becomes the accepted fix, from which the next fix is predicted, and
     // keeping the old stamp would count the latency displacement twice
     // (a false jump of `speed * age`, 0.4 m at 8 m/s and 50 ms).
-    Fix {
+    let fix = Fix {
         x: f.x + chord * co,
         y: f.y + chord * s,
         heading: f.heading + turn,
         time: if now.is_after(f.time) { now } else { f.time },
         ..*f
-    }
+    };
+    Oriented { fix, dir: end }
 }
 
 #[cfg(test)]
@@ -583,18 +683,41 @@ mod tests {
     }
 
     #[test]
+    fn small_turn_series_matches_libm() {
+        // Reference: libm::sinf / cosf and libm::sin / cos.
+        for i in -100..=100 {
+            let a = 0.5 * f64::from(i) / 100.0;
+            let (s, co) = small_sin_cos(a as f32).unwrap();
+            let want = (libm::sinf(a as f32), libm::cosf(a as f32));
+            assert!(
+                (s - want.0).abs() <= 1.5 * f32::EPSILON * want.0.abs().max(1e-30),
+                "{a}"
+            );
+            assert!((co - want.1).abs() <= 1.5 * f32::EPSILON, "{a}");
+            let a = a / 5.0;
+            let (s, co) = small_sin_cos(a).unwrap();
+            assert!(
+                (s - libm::sin(a)).abs() <= 2.0 * f64::EPSILON * libm::sin(a).abs(),
+                "{a}"
+            );
+            assert!((co - libm::cos(a)).abs() <= 2.0 * f64::EPSILON, "{a}");
+        }
+        assert!(small_sin_cos(0.6_f32).is_none() && small_sin_cos(f64::NAN).is_none());
+    }
+
+    #[test]
     fn latency_compensation_follows_the_arc() {
         // On a circle of radius 5 m about the origin, counter-clockwise at
         // 2 m/s: the fix at (5, 0) heading pi/2, 50 ms old, lands where the
         // circle is 0.1 m further on (elementary geometry: angle 0.02 rad).
         let f = Fix::new(5.0, 0.0, core::f64::consts::FRAC_PI_2, 2.0, us(0.0));
-        let e = extrapolate(&f, us(0.05), 0.2);
+        let e = extrapolate(&Oriented::of(f), us(0.05), 0.2).fix;
         assert!((e.x - 5.0 * libm::cos(0.02)).abs() < 1e-9, "{e:?}");
         assert!((e.y - 5.0 * libm::sin(0.02)).abs() < 1e-9, "{e:?}");
         assert!((e.heading - (core::f64::consts::FRAC_PI_2 + 0.02)).abs() < 1e-15);
         assert_eq!(e.time, us(0.05));
         // Straight ahead when the curvature is zero (or not finite).
-        let s = extrapolate(&f, us(0.05), f64::NAN);
+        let s = extrapolate(&Oriented::of(f), us(0.05), f64::NAN).fix;
         assert!(s.x == 5.0 && (s.y - 0.1).abs() < 1e-15 && s.heading == f.heading);
     }
 }

@@ -346,6 +346,11 @@ impl<T: Real> Vehicle<T> {
 /// circle of radius `sqrt(R^2 - a^2)`, i.e.
 /// `kappa a^2 / (1 + sqrt(1 - kappa^2 a^2))` (plain geometry).
 pub(crate) fn rear_axle_offset<T: Real>(kappa: T, a: T) -> T {
+    // On a line or with the control point on the axle the offset is zero
+    // (of the sign the formula gives): no square root.
+    if kappa == T::ZERO || a == T::ZERO {
+        return kappa * a * a;
+    }
     let inside = (T::ONE - kappa * kappa * a * a).max(T::ZERO);
     kappa * a * a / (T::ONE + inside.sqrt())
 }
