@@ -56,6 +56,7 @@ fn samples() -> Vec<Message<'static>> {
         Message::Receiver(b"$GPVTG,90.0,T,,M,1.50,N,2.78,K,D*00\r\n"),
         Message::Cycle {
             cycle: 41,
+            time_us: 2_050_000,
             inputs: Inputs {
                 engage: true,
                 manual_override: false,
@@ -63,6 +64,7 @@ fn samples() -> Vec<Message<'static>> {
         },
         Message::Cycle {
             cycle: u32::MAX,
+            time_us: u32::MAX,
             inputs: Inputs {
                 engage: false,
                 manual_override: true,
@@ -185,6 +187,7 @@ fn a_corrupted_payload_byte_is_a_crc_error() {
 fn a_truncated_frame_is_an_error_and_the_next_frame_still_reads() {
     let m = Message::Cycle {
         cycle: 5,
+        time_us: 250_000,
         inputs: Inputs::default(),
     };
     let w = wire(5, &m);
@@ -254,7 +257,7 @@ fn the_independent_cobs_encoder_agrees_with_the_link() {
 
 #[test]
 fn a_wrong_version_an_unknown_type_and_a_bad_payload_are_typed_errors() {
-    let cycle_payload = [1, 0, 0, 0, 1];
+    let cycle_payload = [1, 0, 0, 0, 0, 0, 0, 0, 1];
     let mut v2 = vec![2u8, 0x04, 0, 0];
     v2.extend_from_slice(&cycle_payload);
     assert_eq!(
@@ -269,16 +272,16 @@ fn a_wrong_version_an_unknown_type_and_a_bad_payload_are_typed_errors() {
         vec![Err(LinkError::UnknownType { found: 0x7E })]
     );
 
-    let short_cycle = [VERSION, 0x04, 0, 0, 1, 0, 0, 0];
+    let short_cycle = [VERSION, 0x04, 0, 0, 1, 0, 0, 0, 0, 0, 0, 0];
     assert_eq!(
         read_all(&raw_to_wire(&short_cycle)),
-        vec![Err(LinkError::Payload { kind: 0x04, len: 4 })]
+        vec![Err(LinkError::Payload { kind: 0x04, len: 8 })]
     );
 
-    let reserved_bits = [VERSION, 0x04, 0, 0, 1, 0, 0, 0, 0x04];
+    let reserved_bits = [VERSION, 0x04, 0, 0, 1, 0, 0, 0, 0, 0, 0, 0, 0x04];
     assert_eq!(
         read_all(&raw_to_wire(&reserved_bits)),
-        vec![Err(LinkError::Payload { kind: 0x04, len: 5 })]
+        vec![Err(LinkError::Payload { kind: 0x04, len: 9 })]
     );
 
     let bad_ack = [VERSION, 0x02, 0, 0, 0, 0, 0, 0, 9];

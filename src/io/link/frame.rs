@@ -125,6 +125,9 @@ pub enum Message<'a> {
     Cycle {
         /// The cycle number.
         cycle: u32,
+        /// The time of the cycle on the device's clock (microseconds,
+        /// wrapping): the host drives the clock in lockstep.
+        time_us: u32,
         /// The operator inputs for it.
         inputs: Inputs,
     },
@@ -188,8 +191,13 @@ fn payload_into(message: &Message<'_>, put: &mut Put<'_>) -> Result<u8, LinkErro
             put.bytes(bytes)?;
             Ok(TYPE_RECEIVER)
         }
-        Message::Cycle { cycle, inputs } => {
+        Message::Cycle {
+            cycle,
+            time_us,
+            inputs,
+        } => {
             put.bytes(&cycle.to_le_bytes())?;
+            put.bytes(&time_us.to_le_bytes())?;
             let flags = u8::from(inputs.engage) | (u8::from(inputs.manual_override) << 1);
             put.bytes(&[flags])?;
             Ok(TYPE_CYCLE)
@@ -339,13 +347,14 @@ fn parse_payload(kind: u8, p: &[u8]) -> Result<Message<'_>, LinkError> {
             Ok(Message::Receiver(p))
         }
         TYPE_CYCLE => {
-            exact(5)?;
-            let flags = p.get(4).copied().ok_or(bad)?;
+            exact(9)?;
+            let flags = p.get(8).copied().ok_or(bad)?;
             if flags & !0b11 != 0 {
                 return Err(bad);
             }
             Ok(Message::Cycle {
                 cycle: u32_at(p, 0).ok_or(bad)?,
+                time_us: u32_at(p, 4).ok_or(bad)?,
                 inputs: Inputs {
                     engage: flags & 1 != 0,
                     manual_override: flags & 2 != 0,

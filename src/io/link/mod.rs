@@ -34,8 +34,8 @@
 //! | `0x01` | path chunk | host to device | 0: u32 offset of the chunk in the blob (bytes); 4: u32 total blob length (bytes); 8: the chunk, 1 to 96 bytes |
 //! | `0x02` | path acknowledgement | device to host | 0: u32 bytes of the blob accepted so far; 4: u8 state: 0 more wanted, 1 path loaded, 2 refused (blob error), 3 out of order (offset not the next expected) |
 //! | `0x03` | receiver bytes | host to device | the bytes as the receiver sent them (NMEA 0183 sentences), 1 to 96 bytes |
-//! | `0x04` | cycle | host to device | 0: u32 cycle number; 4: u8 operator inputs: bit 0 engage switch, bit 1 manual override; bits 2-7 zero |
-//! | `0x05` | status | device to host | 0: u32 cycle number; 4: u8 guidance status code; 5: f32 steering angle command (rad, positive steering left); 9: f32 speed limit (m/s); 13: f32 cross-track error (m, left of path positive; NaN: no estimate); 17: u32 cost of the cycle (retired instructions, or timer ticks on a board); 21: u32 stack high-water mark (bytes) |
+//! | `0x04` | cycle | host to device | 0: u32 cycle number; 4: u32 time of the cycle on the device clock (microseconds, wrapping; the host drives the clock); 8: u8 operator inputs: bit 0 engage switch, bit 1 manual override; bits 2-7 zero |
+//! | `0x05` | status | device to host | 0: u32 cycle number; 4: u8 guidance status code; 5: f32 steering angle command (rad, positive steering left); 9: f32 speed limit (m/s); 13: f32 cross-track error (m, left of path positive; NaN: no estimate); 17: u32 cost of the cycle in core-clock timer ticks (under QEMU `-icount shift=0` on the MPS2 boards one tick is 40 retired instructions); 21: u32 stack high-water mark (bytes) |
 //! | `0x06` | hello | device to host | 0: u32 link version of the firmware; 4: u32 largest path blob it takes (bytes). Sent once after every reset: one arriving mid-run means the device restarted |
 //!
 //! A frame of an unknown type, a payload of the wrong length for its type,
