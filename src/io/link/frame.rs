@@ -28,7 +28,7 @@ const TYPE_CYCLE: u8 = 0x04;
 const TYPE_STATUS: u8 = 0x05;
 const TYPE_HELLO: u8 = 0x06;
 
-const STATUS_LEN: usize = 25;
+const STATUS_LEN: usize = 29;
 
 /// The device's answer to a path chunk.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -86,6 +86,8 @@ pub struct Status {
     pub status: u8,
     /// Steering angle command (rad, positive steering left).
     pub steer_angle: f32,
+    /// Curvature command (1/m, positive turning left).
+    pub curvature: f32,
     /// Speed limit (m/s).
     pub speed_limit: f32,
     /// Cross-track error estimate (m, left of path positive); NaN when the
@@ -206,6 +208,7 @@ fn payload_into(message: &Message<'_>, put: &mut Put<'_>) -> Result<u8, LinkErro
             put.bytes(&s.cycle.to_le_bytes())?;
             put.bytes(&[s.status])?;
             put.bytes(&s.steer_angle.to_bits().to_le_bytes())?;
+            put.bytes(&s.curvature.to_bits().to_le_bytes())?;
             put.bytes(&s.speed_limit.to_bits().to_le_bytes())?;
             put.bytes(&s.cross_track.to_bits().to_le_bytes())?;
             put.bytes(&s.cost.to_le_bytes())?;
@@ -367,10 +370,11 @@ fn parse_payload(kind: u8, p: &[u8]) -> Result<Message<'_>, LinkError> {
                 cycle: u32_at(p, 0).ok_or(bad)?,
                 status: p.get(4).copied().ok_or(bad)?,
                 steer_angle: f32_at(p, 5).ok_or(bad)?,
-                speed_limit: f32_at(p, 9).ok_or(bad)?,
-                cross_track: f32_at(p, 13).ok_or(bad)?,
-                cost: u32_at(p, 17).ok_or(bad)?,
-                stack_high_water: u32_at(p, 21).ok_or(bad)?,
+                curvature: f32_at(p, 9).ok_or(bad)?,
+                speed_limit: f32_at(p, 13).ok_or(bad)?,
+                cross_track: f32_at(p, 17).ok_or(bad)?,
+                cost: u32_at(p, 21).ok_or(bad)?,
+                stack_high_water: u32_at(p, 25).ok_or(bad)?,
             }))
         }
         TYPE_HELLO => {
