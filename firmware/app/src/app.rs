@@ -18,7 +18,7 @@ use kappaline::{
 };
 
 /// Segments of the path held in RAM.
-pub const PATH_SEGMENTS: usize = 24;
+pub const PATH_SEGMENTS: usize = 8;
 
 /// What one cycle did, for the status output.
 #[derive(Debug, Clone, Copy, PartialEq)]
