@@ -126,7 +126,9 @@ struct RunArgs {
     quiet: bool,
     /// Run the controller on a device over a link instead of in-process:
     /// `qemu` starts the emulated Cortex-M4F board (`qemu-system-arm
-    /// -machine mps2-an386`) on the firmware ELF given by `--elf`.
+    /// -machine mps2-an386`) on the firmware ELF given by `--elf`;
+    /// `serial:PORT[,BAUD]` talks to a board on a serial port (115200
+    /// baud by default).
     #[arg(long, value_name = "LINK")]
     link: Option<String>,
     /// The firmware ELF for `--link qemu` (built with the `link` feature).
@@ -404,22 +406,21 @@ fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
 
 fn run_link_verb(a: RunArgs) -> anyhow::Result<bool> {
     use crate::link::device::{cost_histogram, spread};
-    use crate::link::transport::{Board, Qemu};
+    use crate::link::transport::{Board, Qemu, Serial};
     let s = scenario::load(&a.scenario, &overrides_of(&a.common)?)?;
-    let link = match a.link.as_deref() {
-        Some("qemu") => Qemu::start(&a.elf, Board::M4f)?,
-        Some(other) => anyhow::bail!(
-            "--link {other}: this build knows `qemu` (the emulated Cortex-M4F); a serial port is not supported yet"
-        ),
-        None => anyhow::bail!("--link: missing"),
+    let spec = a.link.as_deref().unwrap_or_default();
+    let lo = if spec == "qemu" {
+        let link = Qemu::start(&a.elf, Board::M4f)?;
+        run_link_scenario(&s, link, a.quiet)?
+    } else if let Some(port) = spec.strip_prefix("serial:") {
+        run_link_scenario(&s, Serial::open(port)?, a.quiet)?
+    } else {
+        anyhow::bail!(
+            "--link {spec}: expected `qemu` (the emulated Cortex-M4F) or `serial:PORT[,BAUD]`"
+        )
     };
-    let pb = bar(s.spec.duration_s, a.quiet, "sim s");
-    let tick = |t: f64| pb.set_position(t as u64);
-    let wall = Instant::now();
-    let lo = runner::run_over_link(&s, link, RunOptions::default(), Some(&tick))?;
-    pb.finish_and_clear();
+    let (lo, secs) = lo;
     let out = &lo.outcome;
-    let secs = wall.elapsed().as_secs_f64();
     print!(
         "{}",
         report::summary(&s, &out.metrics, &out.checks, &out.run)
@@ -476,6 +477,20 @@ fn run_link_verb(a: RunArgs) -> anyhow::Result<bool> {
         );
     }
     Ok(out.pass())
+}
+
+/// One run over `link`, with a progress bar; the wall time in seconds.
+fn run_link_scenario<T: crate::link::transport::Transport>(
+    s: &scenario::Scenario,
+    link: T,
+    quiet: bool,
+) -> anyhow::Result<(runner::LinkOutcome, f64)> {
+    let pb = bar(s.spec.duration_s, quiet, "sim s");
+    let tick = |t: f64| pb.set_position(t as u64);
+    let wall = Instant::now();
+    let lo = runner::run_over_link(s, link, RunOptions::default(), Some(&tick))?;
+    pb.finish_and_clear();
+    Ok((lo, wall.elapsed().as_secs_f64()))
 }
 
 fn sweep_plan(a: &SweepArgs) -> anyhow::Result<sweep::Plan> {

@@ -62,7 +62,7 @@ impl Qemu {
     pub fn start(elf: &Path, board: Board) -> anyhow::Result<Self> {
         anyhow::ensure!(
             elf.is_file(),
-            "firmware ELF {} not found (build it: cd firmware/app && cargo build --release --features link)",
+            "firmware ELF {} not found (build it: cd firmware/app && cargo build --release --features link --target-dir target/link)",
             elf.display()
         );
         let port = free_port()?;
@@ -124,6 +124,76 @@ impl Transport for Qemu {
                 io::ErrorKind::UnexpectedEof,
                 "the device closed the link",
             )),
+            Ok(n) => Ok(n),
+            Err(e)
+                if matches!(
+                    e.kind(),
+                    io::ErrorKind::WouldBlock | io::ErrorKind::TimedOut
+                ) =>
+            {
+                Ok(0)
+            }
+            Err(e) => Err(e),
+        }
+    }
+}
+
+/// A board on a real serial port (the `serialport` crate), 8N1, no flow
+/// control.
+pub struct Serial {
+    port: Box<dyn serialport::SerialPort>,
+}
+
+impl Serial {
+    /// Opens `spec`: `PORT` or `PORT,BAUD` (115200 baud when not given),
+    /// e.g. `/dev/ttyACM0,230400`.
+    ///
+    /// # Errors
+    /// A bad baud rate, or a port that cannot be opened (the message names
+    /// it).
+    pub fn open(spec: &str) -> anyhow::Result<Self> {
+        let (name, baud) = match spec.split_once(',') {
+            Some((n, b)) => (
+                n,
+                b.trim()
+                    .parse::<u32>()
+                    .ok()
+                    .filter(|b| *b > 0)
+                    .ok_or_else(|| {
+                        anyhow::anyhow!(
+                            "--link serial:{spec}: baud `{b}` is not a positive integer"
+                        )
+                    })?,
+            ),
+            None => (spec, 115_200),
+        };
+        anyhow::ensure!(
+            !name.is_empty(),
+            "--link serial:PORT[,BAUD]: the port is missing"
+        );
+        let port = serialport::new(name, baud)
+            .timeout(Duration::from_millis(100))
+            .open()
+            .map_err(|e| anyhow::anyhow!("cannot open serial port {name} at {baud} baud: {e}"))?;
+        Ok(Self { port })
+    }
+}
+
+impl Transport for Serial {
+    fn send(&mut self, bytes: &[u8]) -> io::Result<()> {
+        self.port.write_all(bytes)?;
+        self.port.flush()
+    }
+
+    fn recv(&mut self, buf: &mut [u8], deadline: Instant) -> io::Result<usize> {
+        let left = deadline.saturating_duration_since(Instant::now());
+        if left.is_zero() {
+            return Ok(0);
+        }
+        self.port
+            .set_timeout(left)
+            .map_err(|e| io::Error::other(e.to_string()))?;
+        match self.port.read(buf) {
             Ok(n) => Ok(n),
             Err(e)
                 if matches!(
