@@ -369,3 +369,38 @@ pub fn fit_g1(data: &[u8]) {
 fn finite_fit(f: &kappaline::G1Fit) -> bool {
     f.kappa0.is_finite() && f.sharpness.is_finite() && f.length.is_finite() && f.kappa1.is_finite()
 }
+
+/// Link frames (`io::link`): arbitrary bytes into the frame reader. Every
+/// frame it accepts must encode back to the same raw frame it was read
+/// from (the run between two delimiters with COBS undone), and a
+/// sequence check fed its numbers must not panic.
+pub fn link(data: &[u8]) {
+    use kappaline::io::link::frame::{encode, MAX_ENCODED};
+    use kappaline::io::link::reader::{decode_cobs, FrameReader};
+    use kappaline::io::link::sequence::SequenceCheck;
+    let mut reader = FrameReader::new();
+    let mut seqs = SequenceCheck::new();
+    let mut run_start = 0;
+    for (i, &b) in data.iter().enumerate() {
+        let got = reader.push(b);
+        if b != 0 {
+            continue;
+        }
+        let run = &data[run_start..=i];
+        run_start = i + 1;
+        if let Some(Ok(frame)) = got {
+            let _ = seqs.check(frame.seq);
+            let mut out = [0u8; MAX_ENCODED];
+            let n = encode(frame.seq, &frame.message, &mut out)
+                .unwrap_or_else(|e| panic!("accepted frame does not re-encode: {e}"));
+            let mut theirs = run[..run.len() - 1].to_vec();
+            let their_len = decode_cobs(&mut theirs).expect("it was accepted");
+            let our_len = decode_cobs(&mut out[..n - 1]).expect("our own encoding");
+            assert_eq!(
+                &out[..our_len],
+                &theirs[..their_len],
+                "accepted frame re-encodes differently"
+            );
+        }
+    }
+}

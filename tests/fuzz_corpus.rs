@@ -42,3 +42,8 @@ fn path_guidance_corpus() {
 fn fit_g1_corpus() {
     replay("fit_g1", harness::fit_g1);
 }
+
+#[test]
+fn link_corpus() {
+    replay("link", harness::link);
+}

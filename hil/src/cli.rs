@@ -124,6 +124,19 @@ struct RunArgs {
     /// No progress bar.
     #[arg(long, short)]
     quiet: bool,
+    /// Run the controller on a device over a link instead of in-process:
+    /// `qemu` starts the emulated Cortex-M4F board (`qemu-system-arm
+    /// -machine mps2-an386`) on the firmware ELF given by `--elf`;
+    /// `serial:PORT[,BAUD]` talks to a board on a serial port (115200
+    /// baud by default).
+    #[arg(long, value_name = "LINK")]
+    link: Option<String>,
+    /// The firmware ELF for `--link qemu` (built with the `link` feature).
+    #[arg(
+        long,
+        default_value = "firmware/app/target/link/thumbv7em-none-eabihf/release/kappaline-app"
+    )]
+    elf: PathBuf,
 }
 
 #[derive(Debug, Args)]
@@ -217,6 +230,8 @@ pub fn main() -> ExitCode {
         out: PathBuf::from("hil/out"),
         no_report: false,
         quiet: false,
+        link: None,
+        elf: PathBuf::from("firmware/app/target/link/thumbv7em-none-eabihf/release/kappaline-app"),
     }))) {
         Ok(true) => ExitCode::SUCCESS,
         Ok(false) => ExitCode::from(1),
@@ -359,6 +374,9 @@ fn init_verb(a: InitArgs) -> anyhow::Result<bool> {
 }
 
 fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
+    if a.link.is_some() {
+        return run_link_verb(a);
+    }
     let s = scenario::load(&a.scenario, &overrides_of(&a.common)?)?;
     let duration = s.spec.duration_s;
     let pb = bar(duration, a.quiet, "sim s");
@@ -384,6 +402,95 @@ fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
         );
     }
     Ok(out.pass())
+}
+
+fn run_link_verb(a: RunArgs) -> anyhow::Result<bool> {
+    use crate::link::device::{cost_histogram, spread};
+    use crate::link::transport::{Board, Qemu, Serial};
+    let s = scenario::load(&a.scenario, &overrides_of(&a.common)?)?;
+    let spec = a.link.as_deref().unwrap_or_default();
+    let lo = if spec == "qemu" {
+        let link = Qemu::start(&a.elf, Board::M4f)?;
+        run_link_scenario(&s, link, a.quiet)?
+    } else if let Some(port) = spec.strip_prefix("serial:") {
+        run_link_scenario(&s, Serial::open(port)?, a.quiet)?
+    } else {
+        anyhow::bail!(
+            "--link {spec}: expected `qemu` (the emulated Cortex-M4F) or `serial:PORT[,BAUD]`"
+        )
+    };
+    let (lo, secs) = lo;
+    let out = &lo.outcome;
+    print!(
+        "{}",
+        report::summary(&s, &out.metrics, &out.checks, &out.run)
+    );
+    let d = &lo.device;
+    println!(
+        "device: {} cycles over the link, wall time {secs:.2} s",
+        d.cost_ticks.len()
+    );
+    if let Some((lo_t, med, hi)) = spread(&d.cost_ticks) {
+        println!(
+            "device cost per cycle (instructions, SysTick under -icount shift=0, 40 per tick): min {} median {} max {}",
+            lo_t * 40,
+            med * 40,
+            hi * 40
+        );
+        print!("{}", cost_histogram(&d.cost_ticks, 10));
+    }
+    if let Some((lo_r, med, hi)) = spread(&d.round_trip_s) {
+        println!(
+            "link round trip per cycle (ms): min {:.3} median {:.3} max {:.3}",
+            lo_r * 1e3,
+            med * 1e3,
+            hi * 1e3
+        );
+    }
+    println!("device stack high-water mark: {} bytes", d.stack_high_water);
+    if !a.no_report {
+        let dir = report::write_all(&a.out, &s, &out.metrics, &out.checks, &out.run)?;
+        let mut csv = String::from("cycle,status,steer_angle_rad,curvature_per_m,speed_limit_m_s,cross_track_m,cost_ticks,round_trip_s\n");
+        for (i, st) in d.statuses.iter().enumerate() {
+            csv.push_str(&format!(
+                "{},{},{:e},{:e},{:e},{:e},{},{:e}\n",
+                st.cycle,
+                st.status,
+                st.steer_angle,
+                st.curvature,
+                st.speed_limit,
+                st.cross_track,
+                st.cost,
+                d.round_trip_s.get(i).copied().unwrap_or(f64::NAN)
+            ));
+        }
+        std::fs::write(dir.join("device.csv"), csv)?;
+        println!(
+            "report: {} (device.csv: the device's answers per cycle)",
+            dir.join("report.html").display()
+        );
+    }
+    if let Some(f) = &lo.failure {
+        anyhow::bail!(
+            "the run over the link stopped after {} cycles: {f}",
+            d.cost_ticks.len()
+        );
+    }
+    Ok(out.pass())
+}
+
+/// One run over `link`, with a progress bar; the wall time in seconds.
+fn run_link_scenario<T: crate::link::transport::Transport>(
+    s: &scenario::Scenario,
+    link: T,
+    quiet: bool,
+) -> anyhow::Result<(runner::LinkOutcome, f64)> {
+    let pb = bar(s.spec.duration_s, quiet, "sim s");
+    let tick = |t: f64| pb.set_position(t as u64);
+    let wall = Instant::now();
+    let lo = runner::run_over_link(s, link, RunOptions::default(), Some(&tick))?;
+    pb.finish_and_clear();
+    Ok((lo, wall.elapsed().as_secs_f64()))
 }
 
 fn sweep_plan(a: &SweepArgs) -> anyhow::Result<sweep::Plan> {

@@ -18,6 +18,7 @@ pub mod cli;
 pub mod closed_loop;
 pub mod controller;
 pub mod firmware;
+pub mod link;
 pub mod metrics;
 pub mod pathcmd;
 pub mod report;

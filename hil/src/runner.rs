@@ -43,3 +43,46 @@ pub fn run(
         checks,
     })
 }
+
+/// What a run over the link adds to an [`Outcome`].
+pub struct LinkOutcome {
+    /// The run, its metrics and checks, as in-process.
+    pub outcome: Outcome,
+    /// The device's costs, round-trip times and answers.
+    pub device: crate::link::device::DeviceLog,
+    /// Why the run stopped early, if it did (the outcome then holds what
+    /// was run until then).
+    pub failure: Option<crate::link::device::LinkFailure>,
+}
+
+/// Runs `scenario` with the controller on the device behind `link`.
+///
+/// # Errors
+/// If the link does not come up or the device refuses the path.
+pub fn run_over_link<T: crate::link::transport::Transport>(
+    scenario: &Scenario,
+    link: T,
+    options: RunOptions,
+    progress: Option<Progress<'_>>,
+) -> anyhow::Result<LinkOutcome> {
+    use crate::link::device::{LinkFirmware, Timeouts};
+    let mut fw = LinkFirmware::connect(
+        link,
+        &scenario.path,
+        crate::link::nmea::NmeaWriter::demo_firmware()?,
+        scenario.spec.controller.speed_m_s,
+        Timeouts::default(),
+    )?;
+    let run = closed_loop::run(scenario, &mut fw, options, progress);
+    let metrics = metrics::compute(scenario, &run);
+    let checks = metrics::check(&scenario.spec.thresholds, &metrics, &run);
+    Ok(LinkOutcome {
+        outcome: Outcome {
+            run,
+            metrics,
+            checks,
+        },
+        device: fw.log,
+        failure: fw.failure,
+    })
+}

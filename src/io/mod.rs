@@ -8,12 +8,14 @@
 //!   fixes.
 //! * `actuator` (feature `embedded-hal`): steering and wheel outputs over
 //!   embedded-hal 1.0.
+//! * [`link`]: link frames between the host harness and the device (COBS,
+//!   CRC-32, sequence numbers).
 //!
-//! It is also the home of the link frames for the host harness. It may use
-//! every layer below it; nothing below uses it.
+//! It may use every layer below it; nothing below uses it.
 
 #[cfg(feature = "embedded-hal")]
 pub mod actuator;
 pub mod blob;
+pub mod link;
 #[cfg(feature = "nmea")]
 pub mod nmea;

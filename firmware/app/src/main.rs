@@ -21,6 +21,8 @@
 
 pub mod app;
 pub mod board;
+#[cfg(feature = "link")]
+pub mod link;
 pub mod receiver;
 
 use core::cell::RefCell;
@@ -88,6 +90,22 @@ fn main() -> ! {
         latency_us: 20_000,
         expect_gst: true,
     };
+    #[cfg(feature = "link")]
+    {
+        link::start_counter(core.SYST);
+        // SAFETY: UART0 is used by the link device alone, from here on
+        // (its receive interrupt stays masked in link mode).
+        let uart = unsafe { Uart::new(mps2::UART0, false) };
+        link::Device::new(uart, Receiver::new(config), PERIOD_US, build_link_app).run()
+    }
+    #[cfg(not(feature = "link"))]
+    run_on_timer(core, config)
+}
+
+/// The interrupt-driven build: receiver bytes in UART0's interrupt, the
+/// control cycle on SysTick.
+#[cfg(not(feature = "link"))]
+fn run_on_timer(core: cortex_m::Peripherals, config: EpochConfig<f32>) -> ! {
     critical_section::with(|cs| RECEIVER.borrow_ref_mut(cs).replace(Receiver::new(config)));
     // SAFETY: UART0 is used by the receive interrupt alone, from here on.
     let _rx = unsafe { Uart::new(mps2::UART0, true) };
@@ -127,13 +145,23 @@ pub extern "C" fn UART0RX() {
 
 type DemoApp = App<ReportedPwm, PanelPin<'static>, PanelPin<'static>>;
 
-fn build_app() -> Option<DemoApp> {
+/// The demo machine's controller on `path`.
+fn app_on(path: Path<f32, PATH_SEGMENTS>) -> Option<DemoApp> {
     let vehicle = Vehicle::front_steered(2.6f32, 0.6, 0.6)
         .and_then(|v| v.with_control_point(0.0))
         .ok()?;
     let steering = SteeringOutput::new(ReportedPwm::new(), app::demo_calibration().ok()?);
     let pins = (PanelPin::new(&mps2::ENGAGE), PanelPin::new(&mps2::OVERRIDE));
-    App::new(vehicle, demo_path()?, steering, pins, PERIOD_US).ok()
+    App::new(vehicle, path, steering, pins, PERIOD_US).ok()
+}
+
+fn build_app() -> Option<DemoApp> {
+    app_on(demo_path()?)
+}
+
+#[cfg(feature = "link")]
+fn build_link_app(path: Path<f32, PATH_SEGMENTS>) -> Option<DemoApp> {
+    app_on(path)
 }
 
 /// The control cycle, at every SysTick.

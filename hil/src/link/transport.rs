@@ -1,0 +1,209 @@
+//! The byte stream to the device, every wait bounded.
+
+use std::io::{self, Read, Write};
+use std::net::{Ipv4Addr, SocketAddr, TcpListener, TcpStream};
+use std::path::Path;
+use std::process::{Child, Command, Stdio};
+use std::time::{Duration, Instant};
+
+/// A byte stream to a device: writes, and reads that give up at a
+/// deadline.
+pub trait Transport {
+    /// Writes all of `bytes`.
+    ///
+    /// # Errors
+    /// The stream's.
+    fn send(&mut self, bytes: &[u8]) -> io::Result<()>;
+    /// Reads what is there into `buf`, waiting at most until `deadline`;
+    /// `Ok(0)` when the deadline passed with nothing read.
+    ///
+    /// # Errors
+    /// The stream's; a closed stream is `UnexpectedEof`.
+    fn recv(&mut self, buf: &mut [u8], deadline: Instant) -> io::Result<usize>;
+}
+
+/// The emulated boards, by core.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Board {
+    /// Cortex-M4F, QEMU `mps2-an386`.
+    M4f,
+}
+
+impl Board {
+    fn machine(self) -> &'static str {
+        match self {
+            Board::M4f => "mps2-an386",
+        }
+    }
+}
+
+/// QEMU running the firmware, its UART0 on a TCP port. Killed on drop.
+pub struct Qemu {
+    child: Child,
+    stream: TcpStream,
+}
+
+/// How long QEMU gets to open its port.
+const CONNECT_WITHIN: Duration = Duration::from_secs(10);
+
+fn free_port() -> io::Result<u16> {
+    let l = TcpListener::bind((Ipv4Addr::LOCALHOST, 0))?;
+    Ok(l.local_addr()?.port())
+}
+
+impl Qemu {
+    /// Starts `qemu-system-arm` on `elf` with instruction counting
+    /// (`-icount shift=0`: the device's SysTick then counts retired
+    /// instructions, 40 per tick) and connects to its UART0.
+    ///
+    /// # Errors
+    /// If QEMU cannot be started, exits early, or does not open its port
+    /// within 10 s.
+    pub fn start(elf: &Path, board: Board) -> anyhow::Result<Self> {
+        anyhow::ensure!(
+            elf.is_file(),
+            "firmware ELF {} not found (build it: cd firmware/app && cargo build --release --features link --target-dir target/link)",
+            elf.display()
+        );
+        let port = free_port()?;
+        let mut child = Command::new("qemu-system-arm")
+            .args(["-machine", board.machine()])
+            .args(["-display", "none", "-monitor", "none"])
+            .args(["-semihosting-config", "enable=on,target=native"])
+            .args(["-icount", "shift=0,align=off,sleep=off"])
+            .arg("-serial")
+            .arg(format!("tcp:127.0.0.1:{port},server=on,wait=on"))
+            .args(["-serial", "null"])
+            .arg("-kernel")
+            .arg(elf)
+            .stdin(Stdio::null())
+            .stdout(Stdio::null())
+            .spawn()
+            .map_err(|e| anyhow::anyhow!("cannot start qemu-system-arm: {e}"))?;
+        let addr = SocketAddr::from((Ipv4Addr::LOCALHOST, port));
+        let until = Instant::now() + CONNECT_WITHIN;
+        let stream = loop {
+            if let Some(status) = child.try_wait()? {
+                anyhow::bail!("qemu-system-arm exited before the link came up ({status})");
+            }
+            match TcpStream::connect_timeout(&addr, Duration::from_millis(200)) {
+                Ok(s) => break s,
+                Err(_) if Instant::now() < until => std::thread::sleep(Duration::from_millis(50)),
+                Err(e) => {
+                    let _ = child.kill();
+                    let _ = child.wait();
+                    anyhow::bail!("qemu-system-arm opened no link on port {port} within 10 s: {e}");
+                }
+            }
+        };
+        stream.set_nodelay(true)?;
+        Ok(Self { child, stream })
+    }
+}
+
+impl Drop for Qemu {
+    fn drop(&mut self) {
+        let _ = self.child.kill();
+        let _ = self.child.wait();
+    }
+}
+
+impl Transport for Qemu {
+    fn send(&mut self, bytes: &[u8]) -> io::Result<()> {
+        self.stream.write_all(bytes)
+    }
+
+    fn recv(&mut self, buf: &mut [u8], deadline: Instant) -> io::Result<usize> {
+        let left = deadline.saturating_duration_since(Instant::now());
+        if left.is_zero() {
+            return Ok(0);
+        }
+        self.stream.set_read_timeout(Some(left))?;
+        match self.stream.read(buf) {
+            Ok(0) => Err(io::Error::new(
+                io::ErrorKind::UnexpectedEof,
+                "the device closed the link",
+            )),
+            Ok(n) => Ok(n),
+            Err(e)
+                if matches!(
+                    e.kind(),
+                    io::ErrorKind::WouldBlock | io::ErrorKind::TimedOut
+                ) =>
+            {
+                Ok(0)
+            }
+            Err(e) => Err(e),
+        }
+    }
+}
+
+/// A board on a real serial port (the `serialport` crate), 8N1, no flow
+/// control.
+pub struct Serial {
+    port: Box<dyn serialport::SerialPort>,
+}
+
+impl Serial {
+    /// Opens `spec`: `PORT` or `PORT,BAUD` (115200 baud when not given),
+    /// e.g. `/dev/ttyACM0,230400`.
+    ///
+    /// # Errors
+    /// A bad baud rate, or a port that cannot be opened (the message names
+    /// it).
+    pub fn open(spec: &str) -> anyhow::Result<Self> {
+        let (name, baud) = match spec.split_once(',') {
+            Some((n, b)) => (
+                n,
+                b.trim()
+                    .parse::<u32>()
+                    .ok()
+                    .filter(|b| *b > 0)
+                    .ok_or_else(|| {
+                        anyhow::anyhow!(
+                            "--link serial:{spec}: baud `{b}` is not a positive integer"
+                        )
+                    })?,
+            ),
+            None => (spec, 115_200),
+        };
+        anyhow::ensure!(
+            !name.is_empty(),
+            "--link serial:PORT[,BAUD]: the port is missing"
+        );
+        let port = serialport::new(name, baud)
+            .timeout(Duration::from_millis(100))
+            .open()
+            .map_err(|e| anyhow::anyhow!("cannot open serial port {name} at {baud} baud: {e}"))?;
+        Ok(Self { port })
+    }
+}
+
+impl Transport for Serial {
+    fn send(&mut self, bytes: &[u8]) -> io::Result<()> {
+        self.port.write_all(bytes)?;
+        self.port.flush()
+    }
+
+    fn recv(&mut self, buf: &mut [u8], deadline: Instant) -> io::Result<usize> {
+        let left = deadline.saturating_duration_since(Instant::now());
+        if left.is_zero() {
+            return Ok(0);
+        }
+        self.port
+            .set_timeout(left)
+            .map_err(|e| io::Error::other(e.to_string()))?;
+        match self.port.read(buf) {
+            Ok(n) => Ok(n),
+            Err(e)
+                if matches!(
+                    e.kind(),
+                    io::ErrorKind::WouldBlock | io::ErrorKind::TimedOut
+                ) =>
+            {
+                Ok(0)
+            }
+            Err(e) => Err(e),
+        }
+    }
+}
