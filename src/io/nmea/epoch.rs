@@ -30,7 +30,7 @@ pub enum HeadingSource {
     /// Course over ground (RMC or VTG) above `min_speed_m_s`; below it
     /// the last heading is kept (none before the first: no fix).
     Course {
-        /// Slowest speed at which the course is trusted, m/s (> 0).
+        /// Slowest speed at which course over ground is trusted, m/s (> 0).
         min_speed_m_s: f64,
     },
 }
@@ -216,7 +216,7 @@ impl<T: Real> EpochAssembler<T> {
             }
         };
         self.last_heading = Some(heading);
-        // Reversing: the course points backwards against a true heading.
+        // Reversing: course over ground points backwards against a true heading.
         let backwards = matches!((e.hdt, course), (Some(h), Some(c))
             if libm::cos((h.heading_deg - c).to_radians()) < 0.0);
         let speed = if backwards { -speed } else { speed };
