@@ -124,13 +124,11 @@ impl NmeaWriter {
 mod tests {
     use super::*;
 
-    #[test]
-    fn sentences_parse_back_through_the_core_reader() {
-        // The core's NMEA reader is not built into the harness; check the
-        // NMEA 0183 checksum rule and the field counts instead.
-        let w = NmeaWriter::demo_firmware().unwrap();
-        let m = Measurement {
-            time_s: 3723.4,
+    /// An epoch of the sensor model at `time_s`, 10 m east and 5 m south
+    /// of the origin, heading 0.3 rad, 2 m/s, RTK fixed.
+    fn epoch_at(time_s: f64) -> Measurement {
+        Measurement {
+            time_s,
             x: 10.0,
             y: -5.0,
             heading: 0.3,
@@ -138,7 +136,16 @@ mod tests {
             roll: 0.0,
             solution: Solution::Fixed,
             sigma_m: 0.02,
-        };
+        }
+    }
+
+    #[test]
+    fn sentences_keep_the_length_limit_checksum_and_field_counts() {
+        // NMEA 0183 rules (from memory of the standard's framing: at most 82
+        // characters, XOR checksum of the body in two hex digits); that the
+        // core reads them back is the next test.
+        let w = NmeaWriter::demo_firmware().unwrap();
+        let m = epoch_at(3723.4);
         let mut out = Vec::new();
         w.epoch(&m, &mut out);
         let text = String::from_utf8(out).unwrap();
@@ -164,16 +171,7 @@ mod tests {
         use kappaline::io::nmea::{EpochAssembler, EpochConfig, HeadingSource, NmeaReader};
         use kappaline::{FixUpdate, LeverArm, Micros};
         let w = NmeaWriter::demo_firmware().unwrap();
-        let m = Measurement {
-            time_s: 12.3,
-            x: 10.0,
-            y: -5.0,
-            heading: 0.3,
-            speed: 2.0,
-            roll: 0.0,
-            solution: Solution::Fixed,
-            sigma_m: 0.02,
-        };
+        let m = epoch_at(12.3);
         let mut out = Vec::new();
         w.epoch(&m, &mut out);
         let mut reader = NmeaReader::new();
