@@ -131,12 +131,30 @@ struct RunArgs {
     /// baud by default).
     #[arg(long, value_name = "LINK")]
     link: Option<String>,
-    /// The firmware ELF for `--link qemu` (built with the `link` feature).
-    #[arg(
-        long,
-        default_value = "firmware/app/target/link/thumbv7em-none-eabihf/release/kappaline-app"
-    )]
-    elf: PathBuf,
+    /// The firmware ELF for `--link qemu` (built with the `link` feature;
+    /// default: the build for `--board`, under
+    /// `firmware/app/target/link/TARGET/release/kappaline-app`).
+    #[arg(long)]
+    elf: Option<PathBuf>,
+    /// The emulated board for `--link qemu`: `m4f` (Cortex-M4F,
+    /// `mps2-an386`), `m3` (Cortex-M3, `mps2-an385`) or `m0` (Cortex-M0,
+    /// `mps2-an385 -cpu cortex-m0`).
+    #[arg(long, default_value = "m4f", value_parser = board_value)]
+    board: crate::link::transport::Board,
+    /// Faults injected on the frames to the device, e.g.
+    /// `drop@40,corrupt@60,duplicate@80,delay@100,drop-receiver@120-150`
+    /// (cycles counted from 0; see hil/SCENARIOS.md).
+    #[arg(long, value_name = "PLAN", value_parser = fault_plan_value)]
+    link_faults: Option<crate::link::faults::FaultPlan>,
+}
+
+fn board_value(s: &str) -> Result<crate::link::transport::Board, String> {
+    crate::link::transport::Board::from_name(s)
+        .ok_or_else(|| format!("`{s}`: expected m4f, m3 or m0"))
+}
+
+fn fault_plan_value(s: &str) -> Result<crate::link::faults::FaultPlan, String> {
+    crate::link::faults::FaultPlan::parse(s).map_err(|e| e.to_string())
 }
 
 #[derive(Debug, Args)]
@@ -231,7 +249,9 @@ pub fn main() -> ExitCode {
         no_report: false,
         quiet: false,
         link: None,
-        elf: PathBuf::from("firmware/app/target/link/thumbv7em-none-eabihf/release/kappaline-app"),
+        elf: None,
+        board: crate::link::transport::Board::M4f,
+        link_faults: None,
     }))) {
         Ok(true) => ExitCode::SUCCESS,
         Ok(false) => ExitCode::from(1),
@@ -406,17 +426,19 @@ fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
 
 fn run_link_verb(a: RunArgs) -> anyhow::Result<bool> {
     use crate::link::device::{cost_histogram, spread};
-    use crate::link::transport::{Board, Qemu, Serial};
+    use crate::link::transport::{Qemu, Serial};
     let s = scenario::load(&a.scenario, &overrides_of(&a.common)?)?;
     let spec = a.link.as_deref().unwrap_or_default();
+    let faults = a.link_faults.clone().unwrap_or_default();
     let lo = if spec == "qemu" {
-        let link = Qemu::start(&a.elf, Board::M4f)?;
-        run_link_scenario(&s, link, a.quiet)?
+        let elf = a.elf.clone().unwrap_or_else(|| a.board.default_elf());
+        let link = Qemu::start(&elf, a.board)?;
+        run_link_scenario(&s, link, faults, a.quiet)?
     } else if let Some(port) = spec.strip_prefix("serial:") {
-        run_link_scenario(&s, Serial::open(port)?, a.quiet)?
+        run_link_scenario(&s, Serial::open(port)?, faults, a.quiet)?
     } else {
         anyhow::bail!(
-            "--link {spec}: expected `qemu` (the emulated Cortex-M4F) or `serial:PORT[,BAUD]`"
+            "--link {spec}: expected `qemu` (an emulated board, --board) or `serial:PORT[,BAUD]`"
         )
     };
     let (lo, secs) = lo;
@@ -448,6 +470,7 @@ fn run_link_verb(a: RunArgs) -> anyhow::Result<bool> {
         );
     }
     println!("device stack high-water mark: {} bytes", d.stack_high_water);
+    print!("{}", fault_summary(d));
     if !a.no_report {
         let dir = report::write_all(&a.out, &s, &out.metrics, &out.checks, &out.run)?;
         let mut csv = String::from("cycle,status,steer_angle_rad,curvature_per_m,speed_limit_m_s,cross_track_m,cost_ticks,round_trip_s\n");
@@ -465,8 +488,14 @@ fn run_link_verb(a: RunArgs) -> anyhow::Result<bool> {
             ));
         }
         std::fs::write(dir.join("device.csv"), csv)?;
+        let mut faults = String::from("cycle,fault,device_status\n");
+        for f in &d.injected {
+            let answer = f.device_status.map_or("no answer (held)", status_name);
+            faults.push_str(&format!("{},{},{answer}\n", f.cycle, f.fault));
+        }
+        std::fs::write(dir.join("link_faults.csv"), faults)?;
         println!(
-            "report: {} (device.csv: the device's answers per cycle)",
+            "report: {} (device.csv: the device's answers per cycle; link_faults.csv: the faults injected)",
             dir.join("report.html").display()
         );
     }
@@ -479,16 +508,54 @@ fn run_link_verb(a: RunArgs) -> anyhow::Result<bool> {
     Ok(out.pass())
 }
 
+use crate::link::faults::status_name;
+
+/// The faults injected, the cycles held and the device's status changes,
+/// as text (nothing when no fault was injected).
+fn fault_summary(d: &crate::link::device::DeviceLog) -> String {
+    use crate::link::faults::LinkFault;
+    if d.injected.is_empty() {
+        return String::new();
+    }
+    let counts: Vec<String> = LinkFault::ALL
+        .iter()
+        .map(|k| {
+            let n = d.injected.iter().filter(|f| f.fault == *k).count();
+            format!("{k} {n}")
+        })
+        .collect();
+    let mut out = format!("link faults injected: {}\n", counts.join(", "));
+    let shown: Vec<String> = d.held.iter().take(20).map(u64::to_string).collect();
+    out.push_str(&format!(
+        "cycles without an answer, actuators held at the last command: {}{}{}\n",
+        d.held.len(),
+        if shown.is_empty() { "" } else { ": " },
+        shown.join(" ") + if d.held.len() > 20 { " ..." } else { "" }
+    ));
+    let changes: Vec<String> = d
+        .status_changes
+        .iter()
+        .take(20)
+        .map(|(c, s)| format!("{c}:{}", status_name(*s)))
+        .collect();
+    out.push_str(&format!(
+        "device status (cycle:status, first and each change): {}\n",
+        changes.join(" ")
+    ));
+    out
+}
+
 /// One run over `link`, with a progress bar; the wall time in seconds.
 fn run_link_scenario<T: crate::link::transport::Transport>(
     s: &scenario::Scenario,
     link: T,
+    faults: crate::link::faults::FaultPlan,
     quiet: bool,
 ) -> anyhow::Result<(runner::LinkOutcome, f64)> {
     let pb = bar(s.spec.duration_s, quiet, "sim s");
     let tick = |t: f64| pb.set_position(t as u64);
     let wall = Instant::now();
-    let lo = runner::run_over_link(s, link, RunOptions::default(), Some(&tick))?;
+    let lo = runner::run_over_link(s, link, faults, RunOptions::default(), Some(&tick))?;
     pb.finish_and_clear();
     Ok((lo, wall.elapsed().as_secs_f64()))
 }

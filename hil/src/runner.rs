@@ -55,13 +55,15 @@ pub struct LinkOutcome {
     pub failure: Option<crate::link::device::LinkFailure>,
 }
 
-/// Runs `scenario` with the controller on the device behind `link`.
+/// Runs `scenario` with the controller on the device behind `link`,
+/// with the link faults of `faults` injected.
 ///
 /// # Errors
 /// If the link does not come up or the device refuses the path.
 pub fn run_over_link<T: crate::link::transport::Transport>(
     scenario: &Scenario,
     link: T,
+    faults: crate::link::faults::FaultPlan,
     options: RunOptions,
     progress: Option<Progress<'_>>,
 ) -> anyhow::Result<LinkOutcome> {
@@ -72,7 +74,8 @@ pub fn run_over_link<T: crate::link::transport::Transport>(
         crate::link::nmea::NmeaWriter::demo_firmware()?,
         scenario.spec.controller.speed_m_s,
         Timeouts::default(),
-    )?;
+    )?
+    .with_faults(faults);
     let run = closed_loop::run(scenario, &mut fw, options, progress);
     let metrics = metrics::compute(scenario, &run);
     let checks = metrics::check(&scenario.spec.thresholds, &metrics, &run);

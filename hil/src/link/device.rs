@@ -12,6 +12,7 @@ use kappaline::io::link::LinkError;
 
 use crate::controller::micros_of;
 use crate::firmware::{Actuation, Cycle, Firmware, SupervisorStatus};
+use crate::link::faults::{FaultPlan, InjectedFault, LinkFault};
 use crate::link::nmea::NmeaWriter;
 use crate::link::transport::Transport;
 use crate::scenario::HostPath;
@@ -87,6 +88,14 @@ pub struct DeviceLog {
     pub statuses: Vec<Status>,
     /// The largest blob the device takes (from its hello), bytes.
     pub max_blob: u32,
+    /// Each fault injected on the link, in cycle order.
+    pub injected: Vec<InjectedFault>,
+    /// The harness's cycles that had no answer (a fault that silences
+    /// it): the actuators held the device's last command.
+    pub held: Vec<u64>,
+    /// The device's status in its first answer and at every change:
+    /// (the harness's cycle, the device's status code).
+    pub status_changes: Vec<(u64, u8)>,
 }
 
 /// The device on the far side of `T`, driven one exchange per cycle.
@@ -98,7 +107,15 @@ pub struct LinkFirmware<T: Transport> {
     nmea: NmeaWriter,
     timeouts: Timeouts,
     speed_set: f64,
+    /// Cycles answered.
     cycle: u64,
+    /// Cycles run by the harness, answered or not.
+    host_cycle: u64,
+    faults: FaultPlan,
+    /// Frames held back by a `delay` fault, sent after the next cycle's.
+    delayed: Vec<Vec<u8>>,
+    /// The device's last command, held while a cycle goes unanswered.
+    last: Option<Actuation>,
     /// The device's reports.
     pub log: DeviceLog,
     /// The first failure; no exchange after it.
@@ -135,6 +152,10 @@ impl<T: Transport> LinkFirmware<T> {
             timeouts,
             speed_set,
             cycle: 0,
+            host_cycle: 0,
+            faults: FaultPlan::none(),
+            delayed: Vec::new(),
+            last: None,
             log: DeviceLog::default(),
             failure: None,
         };
@@ -149,6 +170,12 @@ impl<T: Transport> LinkFirmware<T> {
         }
         fw.upload(path)?;
         Ok(fw)
+    }
+
+    /// Injects the faults of `plan` on the frames sent to the device.
+    pub fn with_faults(mut self, plan: FaultPlan) -> Self {
+        self.faults = plan;
+        self
     }
 
     fn upload(&mut self, path: &HostPath) -> anyhow::Result<()> {
@@ -194,12 +221,32 @@ impl<T: Transport> LinkFirmware<T> {
     }
 
     fn send(&mut self, m: &Message<'_>) -> Result<(), LinkFailure> {
+        let frame = self.frame(m)?;
+        self.write(&frame)
+    }
+
+    /// `m` as the next frame in sequence (the number is used up even if
+    /// the frame is never sent).
+    fn frame(&mut self, m: &Message<'_>) -> Result<Vec<u8>, LinkFailure> {
         let mut out = [0u8; MAX_ENCODED];
         let n = encode(self.seq_out, m, &mut out).map_err(LinkFailure::BadFrame)?;
         self.seq_out = self.seq_out.wrapping_add(1);
+        Ok(out.get(..n).unwrap_or_default().to_vec())
+    }
+
+    fn write(&mut self, frame: &[u8]) -> Result<(), LinkFailure> {
         self.link
-            .send(out.get(..n).unwrap_or_default())
+            .send(frame)
             .map_err(|e| LinkFailure::Io(e.to_string()))
+    }
+
+    fn write_all(&mut self, frames: &[Vec<u8>], times: usize) -> Result<(), LinkFailure> {
+        for f in frames {
+            for _ in 0..times {
+                self.write(f)?;
+            }
+        }
+        Ok(())
     }
 
     /// The next frame, within `timeout`.
@@ -241,17 +288,23 @@ impl<T: Transport> LinkFirmware<T> {
         }
     }
 
-    fn exchange(&mut self, input: &Cycle) -> Result<Status, LinkFailure> {
+    /// One cycle's frames through `fault`; the device's answer, or `None`
+    /// when the fault leaves the device nothing to answer.
+    fn exchange(
+        &mut self,
+        input: &Cycle,
+        fault: Option<LinkFault>,
+    ) -> Result<Option<Status>, LinkFailure> {
+        let mut receiver = Vec::new();
         if let Some(m) = input.measurement {
             let mut bytes = Vec::new();
             self.nmea.epoch(&m, &mut bytes);
             for chunk in bytes.chunks(MAX_CHUNK) {
-                self.send(&Message::Receiver(chunk))?;
+                receiver.push(self.frame(&Message::Receiver(chunk))?);
             }
         }
-        let cycle = self.cycle as u32;
-        let start = Instant::now();
-        self.send(&Message::Cycle {
+        let cycle = self.host_cycle as u32;
+        let mut cycle_frame = self.frame(&Message::Cycle {
             cycle,
             time_us: micros_of(input.now).0,
             inputs: Inputs {
@@ -259,10 +312,39 @@ impl<T: Transport> LinkFirmware<T> {
                 manual_override: false,
             },
         })?;
+        let late = std::mem::take(&mut self.delayed);
+        let start = Instant::now();
+        match fault {
+            None => {
+                self.write_all(&receiver, 1)?;
+                self.write(&cycle_frame)?;
+            }
+            Some(LinkFault::Drop) => {}
+            Some(LinkFault::Corrupt) => {
+                self.write_all(&receiver, 1)?;
+                corrupt(&mut cycle_frame);
+                self.write(&cycle_frame)?;
+            }
+            Some(LinkFault::Duplicate) => {
+                receiver.push(cycle_frame);
+                self.write_all(&receiver, 2)?;
+            }
+            Some(LinkFault::Delay) => {
+                receiver.push(cycle_frame);
+                self.delayed = receiver;
+            }
+            Some(LinkFault::DropReceiver) => self.write(&cycle_frame)?,
+        }
+        // Frames held back from the cycle before arrive after this
+        // cycle's: out of order.
+        self.write_all(&late, 1)?;
+        if fault.is_some_and(|f| !f.expects_answer()) {
+            return Ok(None);
+        }
         match self.receive("cycle status", self.timeouts.cycle)? {
             Got::Status(s) if s.cycle == cycle => {
                 self.log.round_trip_s.push(start.elapsed().as_secs_f64());
-                Ok(s)
+                Ok(Some(s))
             }
             Got::Status(s) => Err(LinkFailure::Unexpected(format!(
                 "status of cycle {} for cycle {cycle}",
@@ -275,6 +357,15 @@ impl<T: Transport> LinkFirmware<T> {
                 "{m} instead of a cycle status"
             ))),
         }
+    }
+}
+
+/// Changes one byte in the middle of `frame` (never to the delimiter 0),
+/// so that its checks fail.
+fn corrupt(frame: &mut [u8]) {
+    let mid = frame.len().saturating_sub(1) / 2;
+    if let Some(b) = frame.get_mut(mid) {
+        *b = if *b == 0x20 { 0x60 } else { *b ^ 0x20 };
     }
 }
 
@@ -313,14 +404,32 @@ impl<T: Transport> Firmware for LinkFirmware<T> {
         if self.failure.is_some() {
             return stopped();
         }
-        match self.exchange(input) {
-            Ok(s) => {
+        let host_cycle = self.host_cycle;
+        let fault = self.faults.at(host_cycle);
+        let answer = self.exchange(input, fault);
+        self.host_cycle += 1;
+        if let (Some(fault), Ok(answer)) = (fault, &answer) {
+            self.log.injected.push(InjectedFault {
+                cycle: host_cycle,
+                fault,
+                device_status: answer.map(|s| s.status),
+            });
+        }
+        match answer {
+            Ok(None) => {
+                self.log.held.push(host_cycle);
+                self.last.unwrap_or_else(stopped)
+            }
+            Ok(Some(s)) => {
                 self.cycle += 1;
+                if self.log.status_changes.last().map(|c| c.1) != Some(s.status) {
+                    self.log.status_changes.push((host_cycle, s.status));
+                }
                 self.log.cost_ticks.push(s.cost);
                 self.log.stack_high_water = self.log.stack_high_water.max(s.stack_high_water);
                 self.log.statuses.push(s);
                 let steer = f64::from(s.steer_angle);
-                Actuation {
+                let actuation = Actuation {
                     drive: Drive::Steer {
                         angle: steer,
                         speed: self.speed_set.min(f64::from(s.speed_limit)),
@@ -331,7 +440,9 @@ impl<T: Transport> Firmware for LinkFirmware<T> {
                     speed_limit: f64::from(s.speed_limit),
                     cross_track_estimate: (!s.cross_track.is_nan())
                         .then_some(f64::from(s.cross_track)),
-                }
+                };
+                self.last = Some(actuation);
+                actuation
             }
             Err(e) => {
                 self.failure = Some(e);

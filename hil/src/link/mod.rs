@@ -5,6 +5,8 @@
 //!   epoch of the sensor model, as a rig sends them to the device;
 //! * [`transport`]: the byte stream to the device with bounded waits
 //!   (a TCP serial port of QEMU, [`transport::Qemu`]);
+//! * [`faults`]: faults injected on the frames to the device
+//!   (`--link-faults`);
 //! * [`device`]: [`device::LinkFirmware`], the device behind the link as
 //!   a [`crate::firmware::Firmware`]: path upload, then one exchange per
 //!   control cycle, with the device's cost and the round-trip time kept.
@@ -14,5 +16,6 @@
 //! message; the run stops there and keeps what it had.
 
 pub mod device;
+pub mod faults;
 pub mod nmea;
 pub mod transport;

@@ -27,12 +27,49 @@ pub trait Transport {
 pub enum Board {
     /// Cortex-M4F, QEMU `mps2-an386`.
     M4f,
+    /// Cortex-M3, QEMU `mps2-an385`.
+    M3,
+    /// Cortex-M0: QEMU `mps2-an385` with its core swapped
+    /// (`-cpu cortex-m0`), so that the UART and memory map stay those of
+    /// the MPS2 boards the firmware knows.
+    M0,
 }
 
 impl Board {
-    fn machine(self) -> &'static str {
+    /// The board of `--board NAME`: `m4f`, `m3` or `m0`.
+    pub fn from_name(name: &str) -> Option<Self> {
+        match name {
+            "m4f" => Some(Board::M4f),
+            "m3" => Some(Board::M3),
+            "m0" => Some(Board::M0),
+            _ => None,
+        }
+    }
+
+    /// The Rust target the firmware is built for on this board.
+    pub fn target(self) -> &'static str {
         match self {
-            Board::M4f => "mps2-an386",
+            Board::M4f => "thumbv7em-none-eabihf",
+            Board::M3 => "thumbv7m-none-eabi",
+            Board::M0 => "thumbv6m-none-eabi",
+        }
+    }
+
+    /// Where `cargo build --release --features link --target-dir
+    /// target/link --target TARGET` in `firmware/app` puts the ELF, from
+    /// the repository root.
+    pub fn default_elf(self) -> std::path::PathBuf {
+        std::path::PathBuf::from(format!(
+            "firmware/app/target/link/{}/release/kappaline-app",
+            self.target()
+        ))
+    }
+
+    fn qemu_args(self) -> &'static [&'static str] {
+        match self {
+            Board::M4f => &["-machine", "mps2-an386"],
+            Board::M3 => &["-machine", "mps2-an385"],
+            Board::M0 => &["-machine", "mps2-an385", "-cpu", "cortex-m0"],
         }
     }
 }
@@ -67,7 +104,7 @@ impl Qemu {
         );
         let port = free_port()?;
         let mut child = Command::new("qemu-system-arm")
-            .args(["-machine", board.machine()])
+            .args(board.qemu_args())
             .args(["-display", "none", "-monitor", "none"])
             .args(["-semihosting-config", "enable=on,target=native"])
             .args(["-icount", "shift=0,align=off,sleep=off"])
