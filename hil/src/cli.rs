@@ -137,8 +137,8 @@ struct RunArgs {
     #[arg(long)]
     elf: Option<PathBuf>,
     /// The emulated board for `--link qemu`: `m4f` (Cortex-M4F,
-    /// `mps2-an386`), `m3` (Cortex-M3, `mps2-an385`) or `m0` (Cortex-M0,
-    /// `mps2-an385 -cpu cortex-m0`).
+    /// `mps2-an386`), `m3` (Cortex-M3, `mps2-an385`) or `m0` (the Cortex-M0
+    /// build on `mps2-an385`, whose core is an M3: see hil/SCENARIOS.md).
     #[arg(long, default_value = "m4f", value_parser = board_value)]
     board: crate::link::transport::Board,
     /// Faults injected on the frames to the device, e.g.
