@@ -379,7 +379,10 @@ fn a_bad_plan_is_a_typed_error_naming_the_item() {
         ("lose@3", "unknown kind"),
         ("drop@x", "a cycle is not a whole number up to 86400000"),
         ("drop@-1", "a cycle is not a whole number up to 86400000"),
-        ("drop@99999999999", "a cycle is not a whole number up to 86400000"),
+        (
+            "drop@99999999999",
+            "a cycle is not a whole number up to 86400000",
+        ),
         ("drop@9-3", "the span runs backwards"),
         ("drop@3,corrupt@1-4", "a cycle is named twice"),
         ("drop@0-200000", "more than 100000 cycles in all"),
@@ -472,8 +475,14 @@ fn receiver_bytes_left_out_show_in_the_device_status() {
     let changes = &fw.log.status_changes;
     assert_eq!(changes.len(), 3, "{changes:?}");
     assert_eq!(changes[0], (0, 1));
-    assert!(changes[1] == (120, 2) || changes[1] == (121, 2), "{changes:?}");
-    assert!(changes[2] == (130, 1) || changes[2] == (131, 1), "{changes:?}");
+    assert!(
+        changes[1] == (120, 2) || changes[1] == (121, 2),
+        "{changes:?}"
+    );
+    assert!(
+        changes[2] == (130, 1) || changes[2] == (131, 1),
+        "{changes:?}"
+    );
 }
 
 #[test]
