@@ -397,6 +397,10 @@ fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
     if a.link.is_some() {
         return run_link_verb(a);
     }
+    anyhow::ensure!(
+        a.link_faults.is_none(),
+        "--link-faults: faults on the link need a run over one (--link qemu or --link serial:PORT[,BAUD])"
+    );
     let s = scenario::load(&a.scenario, &overrides_of(&a.common)?)?;
     let duration = s.spec.duration_s;
     let pb = bar(duration, a.quiet, "sim s");
