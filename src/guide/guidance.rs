@@ -625,11 +625,14 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let _ = self.tracker.set_lookahead(reach);
         let pose = Pose::new(f.x, f.y, f.heading);
         // On a leg, only feet of its driving direction count (cusps).
-        let t = match self.leg {
+        let found = match self.leg {
             Some(l) => self.tracker.update_driving(path, &pose, l.direction),
             None => self.tracker.update(path, &pose),
-        }
-        .ok()?;
+        };
+        // By reference: moving the tracking state out copies it.
+        let Ok(t) = &found else {
+            return None;
+        };
         if t.status == TrackStatus::Lost {
             return None;
         }
