@@ -273,19 +273,30 @@ fn project_with<T: Real>(
 /// heading `(sin, cos)`): continued along the tangent when `q` lies beyond
 /// a leg end (`s` at the end).
 fn on_leg_at<T: Real>(leg: &Leg<T>, s: T, p: PathPoint<T>, q: (T, T), travel: (T, T)) -> OnLeg<T> {
+    let (ts, tc) = travel;
+    let cross = p.cos * ts - p.sin * tc;
+    let dot = p.cos * tc + p.sin * ts;
+    on_leg_with(leg, s, p, q, cross.atan2(dot))
+}
+
+/// As [`on_leg_at`] with the heading error (radians) already known.
+fn on_leg_with<T: Real>(
+    leg: &Leg<T>,
+    s: T,
+    p: PathPoint<T>,
+    q: (T, T),
+    heading_error: T,
+) -> OnLeg<T> {
     let (qx, qy) = q;
     let along = p.along_offset(qx, qy);
     let at_end =
         leg.bounded && ((s >= leg.end && along > T::ZERO) || (s <= leg.start && along < T::ZERO));
     let station = if at_end { s + along } else { p.station };
-    let (ts, tc) = travel;
-    let cross = p.cos * ts - p.sin * tc;
-    let dot = p.cos * tc + p.sin * ts;
     OnLeg {
         station,
         point: p,
         cross_track: p.lateral_offset(qx, qy),
-        heading_error: cross.atan2(dot),
+        heading_error,
     }
 }
 
@@ -650,8 +661,10 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let mut cp = if on_leg {
             // The tracker's foot is the projection onto the leg: one
             // projection per cycle.
-            let s = foot_station(path, &leg, &t, self.tracker.cursor());
-            on_leg_at(&leg, s, t.foot, (f.x, f.y), travel)
+            let s = foot_station(path, &leg, t, self.tracker.cursor());
+            // The tracker's heading error is this one (the foot's segment
+            // is on the leg, so of its direction), without an `atan2`.
+            on_leg_with(&leg, s, t.foot, (f.x, f.y), t.heading_error)
         } else {
             project(path, &leg, self.station, (f.x, f.y), travel)
         };
