@@ -280,20 +280,12 @@ pub struct Command<T> {
     pub tracking: Option<Tracking<T>>,
 }
 
-impl<T: Real> Command<T> {
-    pub(crate) fn is_finite(&self) -> bool {
-        let t_ok = self.tracking.is_none_or(|t| {
-            t.station.is_finite()
-                && t.cross_track.is_finite()
-                && t.heading_error.is_finite()
-                && t.curvature.is_finite()
-        });
-        self.curvature.is_finite()
-            && self.steer_angle.is_finite()
-            && self.yaw_rate.is_finite()
-            && self.wheel_speeds.0.is_finite()
-            && self.wheel_speeds.1.is_finite()
-            && self.speed_limit.is_finite()
-            && t_ok
-    }
+/// `true` if the tracking state a command reports is finite (or absent).
+pub(crate) fn tracking_is_finite<T: Real>(t: Option<&Tracking<T>>) -> bool {
+    t.is_none_or(|t| {
+        t.station.is_finite()
+            && t.cross_track.is_finite()
+            && t.heading_error.is_finite()
+            && t.curvature.is_finite()
+    })
 }

@@ -74,7 +74,9 @@
 //! ISO 18497, ISO 3691-4, ISO 26262, IEC 61508) decide what else it needs.
 
 use crate::build::passes::{PassError, Passes};
-use crate::guide::cycle::{Command, Fix, GuidanceInput, GuidanceStatus, Reason};
+use crate::guide::cycle::{
+    tracking_is_finite, Command, Fix, GuidanceInput, GuidanceStatus, Reason,
+};
 use crate::guide::operator::Operator;
 use crate::guide::supervisor::{FixMonitor, Mode, SupervisorConfig, Verdict};
 use crate::guide::time::{Micros, MICROS_PER_SECOND};
@@ -271,19 +273,30 @@ fn project_with<T: Real>(
 /// heading `(sin, cos)`): continued along the tangent when `q` lies beyond
 /// a leg end (`s` at the end).
 fn on_leg_at<T: Real>(leg: &Leg<T>, s: T, p: PathPoint<T>, q: (T, T), travel: (T, T)) -> OnLeg<T> {
+    let (ts, tc) = travel;
+    let cross = p.cos * ts - p.sin * tc;
+    let dot = p.cos * tc + p.sin * ts;
+    on_leg_with(leg, s, p, q, cross.atan2(dot))
+}
+
+/// As [`on_leg_at`] with the heading error (radians) already known.
+fn on_leg_with<T: Real>(
+    leg: &Leg<T>,
+    s: T,
+    p: PathPoint<T>,
+    q: (T, T),
+    heading_error: T,
+) -> OnLeg<T> {
     let (qx, qy) = q;
     let along = p.along_offset(qx, qy);
     let at_end =
         leg.bounded && ((s >= leg.end && along > T::ZERO) || (s <= leg.start && along < T::ZERO));
     let station = if at_end { s + along } else { p.station };
-    let (ts, tc) = travel;
-    let cross = p.cos * ts - p.sin * tc;
-    let dot = p.cos * tc + p.sin * ts;
     OnLeg {
         station,
         point: p,
         cross_track: p.lateral_offset(qx, qy),
-        heading_error: cross.atan2(dot),
+        heading_error,
     }
 }
 
@@ -438,16 +451,11 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         path: &Path<T, N>,
         input: &GuidanceInput<T>,
     ) -> Command<T> {
-        let mut cmd = self.cycle(path, input);
-        cmd.reason = match cmd.status {
-            GuidanceStatus::Following | GuidanceStatus::EndOfPath => None,
-            _ => self.reason,
-        };
-        if cmd.is_finite() {
-            cmd
-        } else {
-            self.fault(Reason::BadFix)
-        }
+        // Every way out of the cycle builds its command where the caller
+        // receives it, checked as it is built (`Guidance::command`,
+        // `Guidance::stand_by`, `Guidance::fault`): a command kept in a local
+        // and checked here was copied whole (128 bytes in `f32`) each cycle.
+        self.cycle(path, input)
     }
 
     #[inline(always)]
@@ -625,11 +633,14 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let _ = self.tracker.set_lookahead(reach);
         let pose = Pose::new(f.x, f.y, f.heading);
         // On a leg, only feet of its driving direction count (cusps).
-        let t = match self.leg {
+        let found = match self.leg {
             Some(l) => self.tracker.update_driving(path, &pose, l.direction),
             None => self.tracker.update(path, &pose),
-        }
-        .ok()?;
+        };
+        // By reference: moving the tracking state out copies it.
+        let Ok(t) = &found else {
+            return None;
+        };
         if t.status == TrackStatus::Lost {
             return None;
         }
@@ -650,8 +661,10 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let mut cp = if on_leg {
             // The tracker's foot is the projection onto the leg: one
             // projection per cycle.
-            let s = foot_station(path, &leg, &t, self.tracker.cursor());
-            on_leg_at(&leg, s, t.foot, (f.x, f.y), travel)
+            let s = foot_station(path, &leg, t, self.tracker.cursor());
+            // The tracker's heading error is this one (the foot's segment
+            // is on the leg, so of its direction), without an `atan2`.
+            on_leg_with(&leg, s, t.foot, (f.x, f.y), t.heading_error)
         } else {
             project(path, &leg, self.station, (f.x, f.y), travel)
         };
@@ -720,9 +733,9 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
         if last_leg && cp.station >= leg.end - self.config.end_tolerance {
             self.mode = Mode::EndOfPath;
-            let mut cmd = self.hold(GuidanceStatus::EndOfPath, true);
-            cmd.tracking = Some(*tracking);
-            return cmd;
+            self.speed_limit = T::ZERO;
+            let held = self.limiter.hold();
+            return self.command(held, T::ZERO, GuidanceStatus::EndOfPath, Some(tracking));
         }
         let sign = leg.direction.sign::<T>();
         let travel = Self::travel(body, leg.direction);
@@ -815,23 +828,41 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         self.command(limited, limit, GuidanceStatus::Following, Some(tracking))
     }
 
+    /// The command for a limited curvature, a speed limit and a status;
+    /// a fault if any of it is not finite (never expected). The reason is
+    /// the one behind the status (none when following or at the end).
     #[inline(always)]
     fn command(
-        &self,
+        &mut self,
         lim: Limited<T>,
         limit: T,
         status: GuidanceStatus,
         tracking: Option<&Tracking<T>>,
     ) -> Command<T> {
         let v = self.speed.clamp_to(-limit, limit);
+        let yaw_rate = lim.curvature * self.speed;
+        let wheel_speeds = self.vehicle.wheel_speeds(lim.curvature, v);
+        let finite = lim.curvature.is_finite()
+            && lim.steer_angle.is_finite()
+            && yaw_rate.is_finite()
+            && wheel_speeds.0.is_finite()
+            && wheel_speeds.1.is_finite()
+            && limit.is_finite()
+            && tracking_is_finite(tracking);
+        if !finite {
+            return self.fault(Reason::BadFix);
+        }
         Command {
             curvature: lim.curvature,
             steer_angle: lim.steer_angle,
-            yaw_rate: lim.curvature * self.speed,
-            wheel_speeds: self.vehicle.wheel_speeds(lim.curvature, v),
+            yaw_rate,
+            wheel_speeds,
             speed_limit: limit,
             status,
-            reason: None,
+            reason: match status {
+                GuidanceStatus::Following | GuidanceStatus::EndOfPath => None,
+                _ => self.reason,
+            },
             tracking: tracking.copied(),
         }
     }
@@ -867,7 +898,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         if stop {
             self.speed_limit = T::ZERO;
         }
-        self.command(self.limiter.hold(), self.speed_limit, status, None)
+        let held = self.limiter.hold();
+        self.command(held, self.speed_limit, status, None)
     }
 
     /// Ramps the curvature to zero and requests a stop.
@@ -1032,6 +1064,9 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         self.saturated = false;
         // The output is neutral: the limiter ramps from straight on engage.
         self.limiter.seed(&self.vehicle, T::ZERO);
+        if !tracking_is_finite(tracking.as_ref()) {
+            return self.fault(Reason::BadFix);
+        }
         Command {
             curvature: T::ZERO,
             steer_angle: T::ZERO,
