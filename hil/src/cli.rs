@@ -146,6 +146,32 @@ struct RunArgs {
     /// (cycles counted from 0; see hil/SCENARIOS.md).
     #[arg(long, value_name = "PLAN", value_parser = fault_plan_value)]
     link_faults: Option<crate::link::faults::FaultPlan>,
+    /// How the in-process controller receives its path and fixes:
+    /// `direct` (the path's segments rounded to the controller's type, the
+    /// sensor model's numbers) or `as-link` (as the firmware over `--link`
+    /// receives them: the path through the blob, each epoch as NMEA 0183
+    /// sentences read back by the core's reader; with the scenario set as
+    /// the firmware is, the device's commands bit for bit).
+    #[arg(long, value_enum, default_value_t = InputsArg::Direct)]
+    inputs: InputsArg,
+}
+
+/// `--inputs`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+enum InputsArg {
+    /// The host path rounded, the sensor model's numbers.
+    Direct,
+    /// The path through the blob, the epochs through NMEA sentences.
+    AsLink,
+}
+
+impl InputsArg {
+    fn inputs(self) -> crate::controller::ControllerInputs {
+        match self {
+            InputsArg::Direct => crate::controller::ControllerInputs::Direct,
+            InputsArg::AsLink => crate::controller::ControllerInputs::AsOverLink,
+        }
+    }
 }
 
 fn board_value(s: &str) -> Result<crate::link::transport::Board, String> {
@@ -252,6 +278,7 @@ pub fn main() -> ExitCode {
         elf: None,
         board: crate::link::transport::Board::M4f,
         link_faults: None,
+        inputs: InputsArg::Direct,
     }))) {
         Ok(true) => ExitCode::SUCCESS,
         Ok(false) => ExitCode::from(1),
@@ -395,6 +422,10 @@ fn init_verb(a: InitArgs) -> anyhow::Result<bool> {
 
 fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
     if a.link.is_some() {
+        anyhow::ensure!(
+            a.inputs == InputsArg::Direct,
+            "--inputs: over a link the device gets its path and fixes over the link; the option is for in-process runs"
+        );
         return run_link_verb(a);
     }
     anyhow::ensure!(
@@ -406,7 +437,11 @@ fn run_verb(a: RunArgs) -> anyhow::Result<bool> {
     let pb = bar(duration, a.quiet, "sim s");
     let tick = |t: f64| pb.set_position(t as u64);
     let wall = Instant::now();
-    let out = runner::run(&s, RunOptions::default(), Some(&tick))?;
+    let options = RunOptions {
+        inputs: a.inputs.inputs(),
+        ..RunOptions::default()
+    };
+    let out = runner::run(&s, options, Some(&tick))?;
     pb.finish_and_clear();
     let secs = wall.elapsed().as_secs_f64();
     print!(

@@ -313,6 +313,9 @@ pub fn start_state(s: &Scenario) -> BodyState {
 pub struct RunOptions {
     /// Override of the scenario's duration, s.
     pub duration_s: Option<f64>,
+    /// How an in-process controller receives its path and fixes (not
+    /// used over a link, where the device gets them over the link).
+    pub inputs: crate::controller::ControllerInputs,
 }
 
 /// A callback told the simulated time now and then (for a progress bar).

@@ -5,10 +5,19 @@
 //! [`kappaline::Guidance::step`] as a [`kappaline::Fix`], and the command's
 //! steering angle (or wheel speeds) and speed limit go to the actuators.
 //!
+//! With [`ControllerInputs::AsOverLink`] the controller gets its inputs
+//! the way the firmware on the link gets them instead: the path as the
+//! link's blob carries it (`kappaline::io::blob`: lengths to 1 mm,
+//! curvatures and sharpness to decimal units) and each epoch written as
+//! the receiver's NMEA 0183 sentences and read back by the core's reader
+//! and epoch assembler (`kappaline::io::nmea`); the resolution of both is
+//! then part of the run.
+//!
 //! The controller runs in `f32` by default, as on a microcontroller with a
 //! single-precision FPU, on its own copy of the path rebuilt from the host
 //! path's segments; the harness measures in `f64` against the host path.
 
+use kappaline::io::nmea::{EpochAssembler, EpochConfig, HeadingSource, NmeaReader};
 use kappaline::{
     control_point, Continuity, Direction, Fix, FixQuality, FixUpdate, FrenetFeedback, Guidance,
     GuidanceInput, GuidanceStatus, LeverArm, Micros, Path, PathBuilder, Pose, PurePursuit, Real,
@@ -16,6 +25,7 @@ use kappaline::{
 };
 
 use crate::firmware::{Actuation, Cycle, Firmware, SupervisorStatus};
+use crate::link::nmea::NmeaWriter;
 use crate::scenario::{HostPath, LawSpec, Precision, Scenario, VehicleSpec, MAX_SEGMENTS};
 use crate::sim::{Drive, Measurement};
 
@@ -29,6 +39,52 @@ pub struct GuidanceFirmware<T: Real, L> {
     speed_set: f64,
     differential: bool,
     last: Option<Measurement>,
+    sentences: Option<SentencePath<T>>,
+}
+
+/// How the controller receives its path and the sensor model's epochs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ControllerInputs {
+    /// The host path's segments rounded to the controller's type, each
+    /// epoch a [`Fix`] at once (no receiver in between).
+    #[default]
+    Direct,
+    /// As the firmware on the link receives them: the path decoded from
+    /// the blob the device is sent, each epoch as NMEA 0183 sentences read
+    /// back by the core's reader and epoch assembler, stamped with the
+    /// time of the cycle they arrive for.
+    AsOverLink,
+}
+
+/// Epochs written as sentences and read back as the firmware reads them.
+struct SentencePath<T: Real> {
+    writer: NmeaWriter,
+    reader: NmeaReader,
+    epochs: EpochAssembler<T>,
+    /// Arrival time of the sentence being read.
+    started: Micros,
+    bytes: Vec<u8>,
+}
+
+impl<T: Real> SentencePath<T> {
+    /// The fix update of a cycle at `now` that delivered `measurement`.
+    fn update(&mut self, measurement: Option<&Measurement>, now: Micros) -> FixUpdate<T> {
+        if let Some(m) = measurement {
+            self.bytes.clear();
+            self.writer.epoch(m, &mut self.bytes);
+            for &b in &self.bytes {
+                // The device stamps a sentence with the time of the cycle
+                // its `$` arrived for (`firmware/app`, link mode).
+                if b == b'$' {
+                    self.started = now;
+                }
+                if let Some(Ok(sentence)) = self.reader.push(b) {
+                    self.epochs.push(&sentence, self.started);
+                }
+            }
+        }
+        self.epochs.take()
+    }
 }
 
 /// The firmware's clock: harness seconds as the core's wrapping
@@ -253,7 +309,44 @@ impl<T: Real, L: SteeringLaw<T>> GuidanceFirmware<T, L> {
             speed_set: spec.controller.speed_m_s,
             differential,
             last: None,
+            sentences: None,
         })
+    }
+
+    /// The same firmware on the path decoded from the link's blob, taking
+    /// its fixes as NMEA sentences in the frame of `writer`
+    /// ([`ControllerInputs::AsOverLink`]). The sentences carry no roll:
+    /// terrain compensation does not apply on this input.
+    ///
+    /// # Errors
+    /// If the blob codec refuses the path, or the scenario's receiver
+    /// latency does not fit in microseconds.
+    pub fn as_over_link(mut self, scenario: &Scenario, writer: NmeaWriter) -> anyhow::Result<Self> {
+        let blob = crate::link::device::path_blob(&scenario.path)?;
+        let (path, _) = kappaline::io::blob::decode::<T, MAX_SEGMENTS>(&blob)
+            .map_err(|e| anyhow::anyhow!("path through the blob: {e:?}"))?;
+        self.path = path;
+        let latency_s = scenario.spec.gnss.latency_s;
+        let latency_us = (latency_s * 1e6).round();
+        anyhow::ensure!(
+            (0.0..=f64::from(u32::MAX)).contains(&latency_us),
+            "gnss.latency_s = {latency_s}: out of range for the receiver input"
+        );
+        let config = EpochConfig {
+            frame: writer.frame(),
+            arm: self.arm,
+            heading: HeadingSource::TrueHeading,
+            latency_us: latency_us as u32,
+            expect_gst: true,
+        };
+        self.sentences = Some(SentencePath {
+            writer,
+            reader: NmeaReader::new(),
+            epochs: EpochAssembler::new(config),
+            started: Micros(0),
+            bytes: Vec::new(),
+        });
+        Ok(self)
     }
 
     /// The fix firmware derives from one receiver epoch: the control point
@@ -304,13 +397,14 @@ impl<T: Real, L: SteeringLaw<T>> Firmware for GuidanceFirmware<T, L> {
         // A new epoch is a new fix; a cycle between epochs says "no new
         // fix" (the supervisor dead-reckons from the last one and judges
         // its age); an epoch the lever arm cannot place is no fix.
-        let fix = match input.measurement {
-            Some(m) => {
+        let fix = match (&mut self.sentences, input.measurement) {
+            (Some(sentences), m) => sentences.update(m.as_ref(), micros_of(input.now)),
+            (None, Some(m)) => {
                 self.last = Some(m);
                 self.fix_of(&m).map_or(FixUpdate::NoFix, FixUpdate::New)
             }
-            None if self.last.is_some() => FixUpdate::Unchanged,
-            None => FixUpdate::NoFix,
+            (None, None) if self.last.is_some() => FixUpdate::Unchanged,
+            (None, None) => FixUpdate::NoFix,
         };
         let period_us = (input.dt * 1e6).round().clamp(1.0, f64::from(i32::MAX)) as u32;
         let cmd = self.guidance.step(
@@ -345,7 +439,24 @@ impl<T: Real, L: SteeringLaw<T>> Firmware for GuidanceFirmware<T, L> {
     }
 }
 
-fn boxed<T: Real + Send + 'static>(s: &Scenario) -> anyhow::Result<Box<dyn Firmware + Send>> {
+/// `firmware` as a box, on the receiver input `input`.
+fn boxed_on<T: Real + Send + 'static, L: SteeringLaw<T> + Send + 'static>(
+    s: &Scenario,
+    firmware: GuidanceFirmware<T, L>,
+    input: ControllerInputs,
+) -> anyhow::Result<Box<dyn Firmware + Send>> {
+    Ok(match input {
+        ControllerInputs::Direct => Box::new(firmware),
+        ControllerInputs::AsOverLink => {
+            Box::new(firmware.as_over_link(s, NmeaWriter::demo_firmware()?)?)
+        }
+    })
+}
+
+fn boxed<T: Real + Send + 'static>(
+    s: &Scenario,
+    input: ControllerInputs,
+) -> anyhow::Result<Box<dyn Firmware + Send>> {
     let f = T::from_f64;
     let bad = |field: &'static str| steer_err(field);
     Ok(match s.spec.controller.law {
@@ -362,7 +473,7 @@ fn boxed<T: Real + Send + 'static>(s: &Scenario) -> anyhow::Result<Box<dyn Firmw
                 f(lookahead_max_m),
             )
             .map_err(bad("controller.law"))?;
-            Box::new(GuidanceFirmware::<T, _>::new(s, law)?)
+            boxed_on(s, GuidanceFirmware::<T, _>::new(s, law)?, input)?
         }
         LawSpec::Stanley {
             gain_per_s,
@@ -371,7 +482,7 @@ fn boxed<T: Real + Send + 'static>(s: &Scenario) -> anyhow::Result<Box<dyn Firmw
         } => {
             let law = Stanley::new(f(gain_per_s), f(softening_m_s), f(virtual_wheelbase_m))
                 .map_err(bad("controller.law"))?;
-            Box::new(GuidanceFirmware::<T, _>::new(s, law)?)
+            boxed_on(s, GuidanceFirmware::<T, _>::new(s, law)?, input)?
         }
         LawSpec::Frenet {
             cross_track_gain_per_m2,
@@ -387,7 +498,7 @@ fn boxed<T: Real + Send + 'static>(s: &Scenario) -> anyhow::Result<Box<dyn Firmw
                     .with_integral(f(k_i), f(integral_limit_per_m), f(integral_band_m))
                     .map_err(bad("controller.law.integral_gain_per_m3"))?;
             }
-            Box::new(GuidanceFirmware::<T, _>::new(s, law)?)
+            boxed_on(s, GuidanceFirmware::<T, _>::new(s, law)?, input)?
         }
     })
 }
@@ -397,8 +508,20 @@ fn boxed<T: Real + Send + 'static>(s: &Scenario) -> anyhow::Result<Box<dyn Firmw
 /// # Errors
 /// If the core refuses a setting; the message names the field.
 pub fn firmware_for(s: &Scenario) -> anyhow::Result<Box<dyn Firmware + Send>> {
+    firmware_on(s, ControllerInputs::Direct)
+}
+
+/// The firmware a scenario asks for, taking its fixes on `input` (the
+/// sentences are in the demo firmware's frame, [`NmeaWriter::demo_firmware`]).
+///
+/// # Errors
+/// As [`firmware_for`].
+pub fn firmware_on(
+    s: &Scenario,
+    input: ControllerInputs,
+) -> anyhow::Result<Box<dyn Firmware + Send>> {
     match s.spec.controller.precision {
-        Precision::F32 => boxed::<f32>(s),
-        Precision::F64 => boxed::<f64>(s),
+        Precision::F32 => boxed::<f32>(s, input),
+        Precision::F64 => boxed::<f64>(s, input),
     }
 }

@@ -2,7 +2,7 @@
 //! loop, the metrics and the checks.
 
 use crate::closed_loop::{self, Progress, RunOptions, RunOutput};
-use crate::controller::firmware_for;
+use crate::controller::firmware_on;
 use crate::metrics::{self, Check, Metrics};
 use crate::scenario::Scenario;
 
@@ -24,7 +24,8 @@ impl Outcome {
     }
 }
 
-/// Runs `scenario` with the controller it names.
+/// Runs `scenario` with the controller it names, in-process, taking its
+/// path and fixes as `options.inputs` says.
 ///
 /// # Errors
 /// If the core refuses the controller settings.
@@ -33,7 +34,7 @@ pub fn run(
     options: RunOptions,
     progress: Option<Progress<'_>>,
 ) -> anyhow::Result<Outcome> {
-    let mut fw = firmware_for(scenario)?;
+    let mut fw = firmware_on(scenario, options.inputs)?;
     let run = closed_loop::run(scenario, fw.as_mut(), options, progress);
     let metrics = metrics::compute(scenario, &run);
     let checks = metrics::check(&scenario.spec.thresholds, &metrics, &run);

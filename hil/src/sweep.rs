@@ -299,6 +299,7 @@ pub fn describe(params: &[Param], values: &[toml::Value]) -> String {
 pub fn run(plan: &Plan, jobs: &[Job], tick: &(dyn Fn() + Sync)) -> anyhow::Result<Vec<RunResult>> {
     let opts = RunOptions {
         duration_s: plan.duration_s,
+        ..RunOptions::default()
     };
     jobs.par_iter()
         .map(|j| {

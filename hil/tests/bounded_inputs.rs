@@ -214,3 +214,22 @@ fn the_trace_stays_bounded_on_a_run_longer_than_it_holds() {
     let text = kappaline_hil::report::summary(&s, &out.metrics, &out.checks, &out.run);
     assert!(text.contains("one record tick in 2"), "{text}");
 }
+
+#[test]
+fn inputs_option_is_refused_over_a_link_and_when_unknown() {
+    // Over a link the device gets its inputs over the link: the in-process
+    // option would mean nothing, so it is refused before QEMU is started.
+    refused(
+        &[
+            "run",
+            "field",
+            "--link",
+            "qemu",
+            "--inputs",
+            "as-link",
+            "--no-report",
+        ],
+        &["--inputs", "in-process"],
+    );
+    refused(&["run", "field", "--inputs", "sideways"], &["sideways"]);
+}

@@ -108,6 +108,7 @@ fn report_of_each_builtin_has_every_plot_result_json_and_scenario() {
             &s,
             RunOptions {
                 duration_s: Some(30.0),
+                ..RunOptions::default()
             },
             None,
         )

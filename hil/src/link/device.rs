@@ -98,6 +98,20 @@ pub struct DeviceLog {
     pub status_changes: Vec<(u64, u8)>,
 }
 
+/// The blob the device is sent for `path` (default encoding: lengths to
+/// 1 mm, curvatures and sharpness to their decimal units, see
+/// `kappaline::io::blob`).
+///
+/// # Errors
+/// If the encoder refuses the path.
+pub fn path_blob(path: &HostPath) -> anyhow::Result<Vec<u8>> {
+    let mut blob = vec![0u8; encoded_len(path.len(), false)];
+    let n = encode_blob(path, &EncodeOptions::default(), &mut blob)
+        .map_err(|e| anyhow::anyhow!("path blob: {e:?}"))?;
+    blob.truncate(n);
+    Ok(blob)
+}
+
 /// The device on the far side of `T`, driven one exchange per cycle.
 pub struct LinkFirmware<T: Transport> {
     link: T,
@@ -179,10 +193,8 @@ impl<T: Transport> LinkFirmware<T> {
     }
 
     fn upload(&mut self, path: &HostPath) -> anyhow::Result<()> {
-        let mut blob = vec![0u8; encoded_len(path.len(), false)];
-        let n = encode_blob(path, &EncodeOptions::default(), &mut blob)
-            .map_err(|e| anyhow::anyhow!("path blob: {e:?}"))?;
-        blob.truncate(n);
+        let blob = path_blob(path)?;
+        let n = blob.len();
         anyhow::ensure!(
             n <= self.log.max_blob as usize,
             "the path's blob is {n} bytes; the device takes at most {} (fewer segments, or a build with more)",

@@ -70,6 +70,11 @@ impl NmeaWriter {
         Ok(Self::new(frame, 2.0))
     }
 
+    /// The local frame the sentences are written in.
+    pub fn frame(&self) -> LocalFrame {
+        self.frame
+    }
+
     /// The sentences of one epoch, appended to `out`. An epoch whose
     /// position cannot be placed on the ellipsoid gives no sentences.
     pub fn epoch(&self, m: &Measurement, out: &mut Vec<u8>) {
