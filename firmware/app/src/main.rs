@@ -147,8 +147,13 @@ type DemoApp = App<ReportedPwm, PanelPin<'static>, PanelPin<'static>>;
 
 /// The demo machine's controller on `path`.
 fn app_on(path: Path<f32, PATH_SEGMENTS>) -> Option<DemoApp> {
+    // The machine of hil/scenarios/lockstep.toml, figure for figure.
     let vehicle = Vehicle::front_steered(2.6f32, 0.6, 0.6)
         .and_then(|v| v.with_control_point(0.0))
+        .and_then(|v| v.with_steer_lag(0.1))
+        .and_then(|v| v.with_max_speed(5.0))
+        .and_then(|v| v.with_max_lateral_acceleration(1.5))
+        .and_then(|v| v.with_max_deceleration(1.0))
         .ok()?;
     let steering = SteeringOutput::new(ReportedPwm::new(), app::demo_calibration().ok()?);
     let pins = (PanelPin::new(&mps2::ENGAGE), PanelPin::new(&mps2::OVERRIDE));
