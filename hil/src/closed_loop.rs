@@ -415,6 +415,12 @@ pub fn run<F: Firmware + ?Sized>(
             if !finite {
                 out.non_finite += 1;
             }
+            if let Some(why) = firmware.halted() {
+                out.stopped_early = Some(format!(
+                    "at {t:.3} s the controller stopped answering: {why}"
+                ));
+                break;
+            }
             if let Some(p) = last {
                 let d = match plant {
                     Plant::Bicycle(_) => a.steer_angle - p.steer_angle,

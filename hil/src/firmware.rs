@@ -98,4 +98,10 @@ pub struct Actuation {
 pub trait Firmware {
     /// One control cycle.
     fn cycle(&mut self, input: &Cycle) -> Actuation;
+
+    /// Why the controller can no longer be asked (a link that failed), if
+    /// so: the closed loop stops the run there and keeps what it had.
+    fn halted(&self) -> Option<String> {
+        None
+    }
 }

@@ -283,6 +283,37 @@ fn a_silent_device_stops_the_run_within_its_timeout() {
 }
 
 #[test]
+fn the_run_stops_at_a_link_failure_and_keeps_what_it_had() {
+    let s = kappaline_hil::scenario::load("hil/scenarios/lockstep.toml", &[])
+        .or_else(|_| kappaline_hil::scenario::load("scenarios/lockstep.toml", &[]))
+        .unwrap();
+    let mut fw = LinkFirmware::connect(
+        Scripted::new(30, Fault::Silent),
+        &s.path,
+        NmeaWriter::demo_firmware().unwrap(),
+        2.0,
+        short(),
+    )
+    .unwrap();
+    let run = kappaline_hil::closed_loop::run(&s, &mut fw, RunOptions::default(), None);
+    // Cycle 30 (counted from 0) goes unanswered: it runs at 30 / 20 Hz =
+    // 1.5 s of the scenario's 20 s, and the simulation ends there.
+    assert_eq!(fw.log.statuses.len(), 29, "the cycles answered are kept");
+    assert!(
+        run.sim_time_s <= 1.5 + 1e-9,
+        "ran on to {} s",
+        run.sim_time_s
+    );
+    assert!(run.sim_time_s > 1.4, "stopped at {} s", run.sim_time_s);
+    let why = run.stopped_early.expect("the run says why it stopped");
+    assert!(
+        why.contains("stopped answering") && why.contains("cycle status"),
+        "{why}"
+    );
+    assert!(!run.trace.is_empty(), "the trace until then is kept");
+}
+
+#[test]
 fn a_device_reset_is_reported_as_such() {
     let (cycles, failure, _) = run_with(10, Fault::Reset);
     assert_eq!(cycles, 9);

@@ -412,6 +412,10 @@ fn stopped() -> Actuation {
 }
 
 impl<T: Transport> Firmware for LinkFirmware<T> {
+    fn halted(&self) -> Option<String> {
+        self.failure.as_ref().map(ToString::to_string)
+    }
+
     fn cycle(&mut self, input: &Cycle) -> Actuation {
         if self.failure.is_some() {
             return stopped();
