@@ -31,7 +31,7 @@ use kappaline::io::link::LinkError;
 use kappaline::{GuidanceStatus, Micros};
 
 use crate::app::{App, PATH_SEGMENTS};
-use crate::board::mps2::{self, PanelPin, ReportedPwm, Uart};
+use crate::board::active::{self as hw, PanelPin, ReportedPwm, Uart};
 use crate::receiver::Receiver;
 
 /// The controller in link mode.
@@ -195,8 +195,8 @@ impl<F: FnMut(kappaline::Path<f32, PATH_SEGMENTS>) -> Option<LinkApp>> Device<F>
 
     fn on_cycle(&mut self, cycle: u32, time_us: u32, inputs: Inputs) {
         critical_section::with(|cs| {
-            mps2::ENGAGE.borrow(cs).set(inputs.engage);
-            mps2::OVERRIDE.borrow(cs).set(inputs.manual_override);
+            hw::ENGAGE.borrow(cs).set(inputs.engage);
+            hw::OVERRIDE.borrow(cs).set(inputs.manual_override);
         });
         let now = Micros(time_us);
         self.next_time = Micros(time_us.wrapping_add(self.period_us));
@@ -210,7 +210,7 @@ impl<F: FnMut(kappaline::Path<f32, PATH_SEGMENTS>) -> Option<LinkApp>> Device<F>
                 speed_limit: 0.0,
                 cross_track: f32::NAN,
                 cost: 0,
-                stack_high_water: mps2::stack_used() as u32,
+                stack_high_water: hw::stack_used() as u32,
             };
             self.send(&Message::Status(status));
             return;
@@ -229,7 +229,7 @@ impl<F: FnMut(kappaline::Path<f32, PATH_SEGMENTS>) -> Option<LinkApp>> Device<F>
             speed_limit: c.speed_limit,
             cross_track: c.tracking.map_or(f32::NAN, |t| t.cross_track),
             cost,
-            stack_high_water: mps2::stack_used() as u32,
+            stack_high_water: hw::stack_used() as u32,
         };
         self.send(&Message::Status(status));
     }

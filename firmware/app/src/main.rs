@@ -25,27 +25,38 @@ pub mod board;
 pub mod link;
 pub mod receiver;
 
+#[cfg(not(feature = "board-microbit"))]
 use core::cell::RefCell;
 
 use cortex_m_rt::{entry, exception, ExceptionFrame};
 use cortex_m_semihosting::debug;
+#[cfg(not(feature = "board-microbit"))]
 use critical_section::Mutex;
 use kappaline::io::actuator::SteeringOutput;
 use kappaline::io::nmea::{EpochConfig, HeadingSource};
-use kappaline::{Geodetic, LeverArm, LocalFrame, Path, PathBuilder, Pose, Segment, Vehicle};
+use kappaline::{Geodetic, LeverArm, LocalFrame, Path, Vehicle};
+#[cfg(not(feature = "board-microbit"))]
+use kappaline::{PathBuilder, Pose, Segment};
 
-use app::{write_status, App, PATH_SEGMENTS};
-use board::mps2::{self, Clock, PanelPin, ReportedPwm, Uart};
+#[cfg(not(feature = "board-microbit"))]
+use app::write_status;
+use app::{App, PATH_SEGMENTS};
+use board::active::{self as hw, PanelPin, ReportedPwm, Uart};
+#[cfg(not(feature = "board-microbit"))]
+use board::mps2::Clock;
 use receiver::Receiver;
 
 /// Control period: 50 ms (20 Hz).
 const PERIOD_US: u32 = 50_000;
 
 /// Cycles before the demo ends (exit code 0): 40 s.
+#[cfg(not(feature = "board-microbit"))]
 const DEMO_CYCLES: u32 = 800;
 
+#[cfg(not(feature = "board-microbit"))]
 /// The receiver state, shared by the receive interrupt and the cycle.
 static RECEIVER: Mutex<RefCell<Option<Receiver>>> = Mutex::new(RefCell::new(None));
+#[cfg(not(feature = "board-microbit"))]
 /// The clock, set once in `main`.
 static CLOCK: Mutex<RefCell<Option<Clock>>> = Mutex::new(RefCell::new(None));
 
@@ -56,6 +67,7 @@ fn frame() -> Option<LocalFrame> {
 
 /// The field's first pass and turn: 60 m east, a clothoid into a left
 /// turn of 15 m radius, a quarter turn, out again.
+#[cfg(not(feature = "board-microbit"))]
 fn demo_path() -> Option<Path<f32, PATH_SEGMENTS>> {
     let k = 1.0 / 15.0;
     PathBuilder::new(Pose::new(0.0, 0.0, 0.0))
@@ -76,7 +88,7 @@ fn demo_path() -> Option<Path<f32, PATH_SEGMENTS>> {
 
 #[entry]
 fn main() -> ! {
-    mps2::paint_stack();
+    hw::paint_stack();
     let Some(core) = cortex_m::Peripherals::take() else {
         fail()
     };
@@ -95,7 +107,7 @@ fn main() -> ! {
         link::start_counter(core.SYST);
         // SAFETY: UART0 is used by the link device alone, from here on
         // (its receive interrupt stays masked in link mode).
-        let uart = unsafe { Uart::new(mps2::UART0, false) };
+        let uart = unsafe { Uart::new(hw::UART0, false) };
         link::Device::new(uart, Receiver::new(config), PERIOD_US, build_link_app).run()
     }
     #[cfg(not(feature = "link"))]
@@ -108,16 +120,17 @@ fn main() -> ! {
 fn run_on_timer(core: cortex_m::Peripherals, config: EpochConfig<f32>) -> ! {
     critical_section::with(|cs| RECEIVER.borrow_ref_mut(cs).replace(Receiver::new(config)));
     // SAFETY: UART0 is used by the receive interrupt alone, from here on.
-    let _rx = unsafe { Uart::new(mps2::UART0, true) };
+    let _rx = unsafe { Uart::new(hw::UART0, true) };
     let clock = Clock::start(core.SYST, PERIOD_US);
     critical_section::with(|cs| CLOCK.borrow_ref_mut(cs).replace(clock));
     // SAFETY: the handler is defined below and needs no set-up beyond this.
-    unsafe { cortex_m::peripheral::NVIC::unmask(mps2::Uart0Rx) };
+    unsafe { cortex_m::peripheral::NVIC::unmask(hw::Uart0Rx) };
     loop {
         cortex_m::asm::wfi();
     }
 }
 
+#[cfg(not(feature = "board-microbit"))]
 fn now() -> kappaline::Micros {
     critical_section::with(|cs| {
         CLOCK
@@ -127,11 +140,12 @@ fn now() -> kappaline::Micros {
     })
 }
 
+#[cfg(not(feature = "board-microbit"))]
 /// The receive interrupt of UART0: bytes into the receiver.
 #[no_mangle]
 pub extern "C" fn UART0RX() {
     // SAFETY: only this handler touches UART0 after `main` set it up.
-    let mut uart = unsafe { Uart::new(mps2::UART0, true) };
+    let mut uart = unsafe { Uart::new(hw::UART0, true) };
     uart.clear_rx_interrupt();
     while let Some(b) = uart.try_read() {
         let t = now();
@@ -143,6 +157,7 @@ pub extern "C" fn UART0RX() {
     }
 }
 
+/// The controller of this firmware.
 type DemoApp = App<ReportedPwm, PanelPin<'static>, PanelPin<'static>>;
 
 /// The demo machine's controller on `path`.
@@ -156,10 +171,11 @@ fn app_on(path: Path<f32, PATH_SEGMENTS>) -> Option<DemoApp> {
         .and_then(|v| v.with_max_deceleration(1.0))
         .ok()?;
     let steering = SteeringOutput::new(ReportedPwm::new(), app::demo_calibration().ok()?);
-    let pins = (PanelPin::new(&mps2::ENGAGE), PanelPin::new(&mps2::OVERRIDE));
+    let pins = (PanelPin::new(&hw::ENGAGE), PanelPin::new(&hw::OVERRIDE));
     App::new(vehicle, path, steering, pins, PERIOD_US).ok()
 }
 
+#[cfg(not(feature = "board-microbit"))]
 fn build_app() -> Option<DemoApp> {
     app_on(demo_path()?)
 }
@@ -169,6 +185,7 @@ fn build_link_app(path: Path<f32, PATH_SEGMENTS>) -> Option<DemoApp> {
     app_on(path)
 }
 
+#[cfg(not(feature = "board-microbit"))]
 /// The control cycle, at every SysTick.
 #[exception]
 fn SysTick() {
@@ -185,10 +202,10 @@ fn SysTick() {
     }
     let panel = PANEL.get_or_insert_with(|| {
         // SAFETY: UART1 is used by this handler alone.
-        unsafe { Uart::new(mps2::UART1, false) }
+        unsafe { Uart::new(hw::UART1, false) }
     });
     let Some(app) = APP.as_mut() else { fail() };
-    mps2::read_panel(panel);
+    hw::read_panel(panel);
     let fix = critical_section::with(|cs| {
         RECEIVER
             .borrow_ref_mut(cs)
@@ -203,8 +220,8 @@ fn SysTick() {
             panel,
             format_args!(
                 "M statics {} stack {}\n",
-                mps2::statics_size(),
-                mps2::stack_used()
+                hw::statics_size(),
+                hw::stack_used()
             ),
         );
         debug::exit(debug::EXIT_SUCCESS);

@@ -12,9 +12,10 @@ use core::cell::Cell;
 use core::convert::Infallible;
 
 use critical_section::Mutex;
-use embedded_hal::digital::{ErrorType as PinErrorType, InputPin};
-use embedded_hal::pwm::{ErrorType as PwmErrorType, SetDutyCycle};
 use kappaline::Micros;
+
+pub use super::panel::{PanelPin, ReportedPwm, ENGAGE, OVERRIDE};
+pub use super::stack::{paint_stack, stack_used, statics_size};
 
 /// Core clock, Hz (the MPS2 FPGA images run at 25 MHz).
 pub const CORE_HZ: u32 = 25_000_000;
@@ -139,78 +140,6 @@ impl Clock {
     }
 }
 
-/// A steering PWM stand-in: keeps the duty for the status line.
-pub struct ReportedPwm {
-    duty: u16,
-}
-
-impl ReportedPwm {
-    /// Full scale, counts.
-    pub const MAX: u16 = 10_000;
-
-    /// At zero duty.
-    pub const fn new() -> Self {
-        Self { duty: 0 }
-    }
-
-    /// The duty last set, counts.
-    pub fn duty(&self) -> u16 {
-        self.duty
-    }
-}
-
-impl Default for ReportedPwm {
-    fn default() -> Self {
-        Self::new()
-    }
-}
-
-impl PwmErrorType for ReportedPwm {
-    type Error = Infallible;
-}
-
-impl SetDutyCycle for ReportedPwm {
-    fn max_duty_cycle(&self) -> u16 {
-        Self::MAX
-    }
-
-    fn set_duty_cycle(&mut self, duty: u16) -> Result<(), Self::Error> {
-        self.duty = duty;
-        Ok(())
-    }
-}
-
-/// A panel input: a switch or sensor whose state comes in as panel bytes.
-pub struct PanelPin<'a> {
-    state: &'a Mutex<Cell<bool>>,
-}
-
-impl<'a> PanelPin<'a> {
-    /// The pin reading `state`.
-    pub const fn new(state: &'a Mutex<Cell<bool>>) -> Self {
-        Self { state }
-    }
-}
-
-impl PinErrorType for PanelPin<'_> {
-    type Error = Infallible;
-}
-
-impl InputPin for PanelPin<'_> {
-    fn is_high(&mut self) -> Result<bool, Self::Error> {
-        Ok(critical_section::with(|cs| self.state.borrow(cs).get()))
-    }
-
-    fn is_low(&mut self) -> Result<bool, Self::Error> {
-        self.is_high().map(|h| !h)
-    }
-}
-
-/// The engage switch.
-pub static ENGAGE: Mutex<Cell<bool>> = Mutex::new(Cell::new(false));
-/// The manual-override sensor.
-pub static OVERRIDE: Mutex<Cell<bool>> = Mutex::new(Cell::new(false));
-
 /// Applies the panel bytes waiting on `panel`.
 pub fn read_panel(panel: &mut Uart) {
     while let Some(b) = panel.try_read() {
@@ -239,45 +168,3 @@ unsafe impl cortex_m::interrupt::InterruptNumber for Uart0Rx {
 #[link_section = ".vector_table.interrupts"]
 #[no_mangle]
 pub static __INTERRUPTS: [unsafe extern "C" fn(); 1] = [crate::UART0RX];
-
-/// The stack's fill pattern, for its high-water mark.
-const PAINT: u32 = 0xA5A5_A5A5;
-
-extern "C" {
-    static mut __sheap: u32;
-    static _stack_start: u32;
-}
-
-/// Fills the free RAM between the statics and the stack pointer with a
-/// pattern (call first thing in `main`).
-pub fn paint_stack() {
-    let sp = cortex_m::register::msp::read() as usize;
-    // SAFETY: the words between the end of the statics and 64 bytes below
-    // the stack pointer are unused at this point.
-    unsafe {
-        let mut p = core::ptr::addr_of_mut!(__sheap);
-        while (p as usize) + 64 < sp {
-            core::ptr::write_volatile(p, PAINT);
-            p = p.add(1);
-        }
-    }
-}
-
-/// Bytes of stack ever used: from the top down to the first word still
-/// holding the pattern.
-pub fn stack_used() -> usize {
-    // SAFETY: reads of RAM between the statics and the stack top.
-    unsafe {
-        let top = core::ptr::addr_of!(_stack_start) as usize;
-        let mut p = core::ptr::addr_of!(__sheap);
-        while (p as usize) < top && core::ptr::read_volatile(p) == PAINT {
-            p = p.add(1);
-        }
-        top - p as usize
-    }
-}
-
-/// RAM taken by the statics (data and bss), bytes.
-pub fn statics_size() -> usize {
-    core::ptr::addr_of!(__sheap) as usize - 0x2000_0000
-}
