@@ -133,12 +133,15 @@ struct RunArgs {
     link: Option<String>,
     /// The firmware ELF for `--link qemu` (built with the `link` feature;
     /// default: the build for `--board`, under
-    /// `firmware/app/target/link/TARGET/release/kappaline-app`).
+    /// `firmware/app/target/link/TARGET/release/kappaline-app`, or
+    /// `target/link-microbit/...` for the micro:bit).
     #[arg(long)]
     elf: Option<PathBuf>,
     /// The emulated board for `--link qemu`: `m4f` (Cortex-M4F,
-    /// `mps2-an386`), `m3` (Cortex-M3, `mps2-an385`) or `m0` (the Cortex-M0
-    /// build on `mps2-an385`, whose core is an M3: see hil/SCENARIOS.md).
+    /// `mps2-an386`), `m3` (Cortex-M3, `mps2-an385`), `m0` (the Cortex-M0
+    /// build on `mps2-an385`, whose core is an M3) or `microbit` (the
+    /// Cortex-M0 build on an M0 core, QEMU `microbit`; see
+    /// hil/SCENARIOS.md).
     #[arg(long, default_value = "m4f", value_parser = board_value)]
     board: crate::link::transport::Board,
     /// Faults injected on the frames to the device, e.g.
@@ -176,7 +179,7 @@ impl InputsArg {
 
 fn board_value(s: &str) -> Result<crate::link::transport::Board, String> {
     crate::link::transport::Board::from_name(s)
-        .ok_or_else(|| format!("`{s}`: expected m4f, m3 or m0"))
+        .ok_or_else(|| format!("`{s}`: expected m4f, m3, m0 or microbit"))
 }
 
 fn fault_plan_value(s: &str) -> Result<crate::link::faults::FaultPlan, String> {
@@ -487,18 +490,28 @@ fn run_link_verb(a: RunArgs) -> anyhow::Result<bool> {
         report::summary(&s, &out.metrics, &out.checks, &out.run)
     );
     let d = &lo.device;
+    // Under QEMU's -icount a tick is a fixed count of instructions; on a
+    // real board it is a core clock cycle, reported as such.
+    let (per_tick, unit) = if spec == "qemu" {
+        (
+            a.board.instructions_per_tick(),
+            "instructions, SysTick under -icount shift=0",
+        )
+    } else {
+        (1.0, "core clock cycles, SysTick")
+    };
     println!(
         "device: {} cycles over the link, wall time {secs:.2} s",
         d.cost_ticks.len()
     );
     if let Some((lo_t, med, hi)) = spread(&d.cost_ticks) {
         println!(
-            "device cost per cycle (instructions, SysTick under -icount shift=0, 40 per tick): min {} median {} max {}",
-            lo_t * 40,
-            med * 40,
-            hi * 40
+            "device cost per cycle ({unit}, {per_tick} per tick): min {} median {} max {}",
+            (f64::from(lo_t) * per_tick).round(),
+            (f64::from(med) * per_tick).round(),
+            (f64::from(hi) * per_tick).round()
         );
-        print!("{}", cost_histogram(&d.cost_ticks, 10));
+        print!("{}", cost_histogram(&d.cost_ticks, 10, per_tick));
     }
     if let Some((lo_r, med, hi)) = spread(&d.round_trip_s) {
         println!(

@@ -232,4 +232,8 @@ fn inputs_option_is_refused_over_a_link_and_when_unknown() {
         &["--inputs", "in-process"],
     );
     refused(&["run", "field", "--inputs", "sideways"], &["sideways"]);
+    refused(
+        &["run", "field", "--link", "qemu", "--board", "m7"],
+        &["m7", "m4f, m3, m0 or microbit"],
+    );
 }

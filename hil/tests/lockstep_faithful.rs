@@ -6,10 +6,11 @@
 //! and the sensor model's numbers (`--inputs direct`).
 //!
 //! The device tests need `qemu-system-arm` and the link firmware built
-//! for the M4F and the M0 (`cargo build --release --features link
-//! --target-dir target/link [--target thumbv6m-none-eabi]` in
-//! `firmware/app`), so they are ignored by default; `.ci/run` builds both
-//! and runs them with `--ignored`.
+//! for the M4F, the M0 and the micro:bit (`cargo build --release
+//! --features link --target-dir target/link [--target thumbv6m-none-eabi]`
+//! and `--features link,board-microbit --target-dir target/link-microbit
+//! --target thumbv6m-none-eabi` in `firmware/app`), so they are ignored by
+//! default; `.ci/run` builds them and runs them with `--ignored`.
 
 use std::path::PathBuf;
 
@@ -52,6 +53,14 @@ fn device_on_the_m0_build_matches_the_in_process_run_bit_for_bit() {
     // Soft-float f32 (compiler_builtins) gives the FPU's bits: IEEE 754
     // round to nearest, no fused operations.
     device_matches_in_process(Board::M0);
+}
+
+#[test]
+#[ignore = "needs qemu-system-arm and the micro:bit link firmware (firmware/app, features link,board-microbit, thumbv6m); .ci/run runs it"]
+fn device_on_a_cortex_m0_core_matches_the_in_process_run_bit_for_bit() {
+    // The M0 build on QEMU's micro:bit, an M0 core (the M0 build above
+    // runs on an M3 core).
+    device_matches_in_process(Board::Microbit);
 }
 
 fn device_matches_in_process(board: Board) {

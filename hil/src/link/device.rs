@@ -77,7 +77,8 @@ impl Default for Timeouts {
 /// What the device reported about itself over a run.
 #[derive(Debug, Clone, Default)]
 pub struct DeviceLog {
-    /// Cost of each cycle, core-clock ticks (40 instructions each under
+    /// Cost of each cycle, core-clock ticks (40 instructions each on the
+    /// MPS2 boards, 62.5 on the micro:bit, under
     /// QEMU `-icount shift=0` on the MPS2 boards).
     pub cost_ticks: Vec<u32>,
     /// Round-trip time of each cycle exchange, seconds (host clock).
@@ -475,9 +476,10 @@ pub fn spread<V: Copy + PartialOrd>(v: &[V]) -> Option<(V, V, V)> {
     Some((*s.first()?, *s.get(s.len() / 2)?, *s.last()?))
 }
 
-/// A text histogram of `ticks` in `bins` equal bins (instructions at 40
-/// per tick).
-pub fn cost_histogram(ticks: &[u32], bins: usize) -> String {
+/// A text histogram of `ticks` in `bins` equal bins, labelled in
+/// instructions at `per_tick` instructions per tick
+/// ([`crate::link::transport::Board::instructions_per_tick`]).
+pub fn cost_histogram(ticks: &[u32], bins: usize, per_tick: f64) -> String {
     let Some((lo, _, hi)) = spread(ticks) else {
         return "no cycles\n".into();
     };
@@ -493,7 +495,7 @@ pub fn cost_histogram(ticks: &[u32], bins: usize) -> String {
     let top = counts.iter().copied().max().unwrap_or(1).max(1);
     let mut out = String::new();
     for (i, c) in counts.iter().enumerate() {
-        let from = (lo as usize + i * width) * 40;
+        let from = ((lo as usize + i * width) as f64 * per_tick).round();
         let bar = "#".repeat((c * 50).div_ceil(top));
         out.push_str(&format!("{from:>9} instr  {c:>6}  {bar}\n"));
     }

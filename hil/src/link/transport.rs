@@ -31,21 +31,45 @@ pub enum Board {
     M3,
     /// The Cortex-M0 build (`thumbv6m-none-eabi`) on QEMU `mps2-an385`,
     /// whose core is a Cortex-M3: QEMU 7.2 has no MPS2 board with an M0
-    /// (`-cpu cortex-m0` is refused there) and its M0 board, `microbit`,
-    /// has other UARTs. ARMv6-M is a subset of ARMv7-M, so the code and
-    /// the instruction counts are the M0 build's; what an M0 would trap
-    /// and an M3 does not (an unaligned access) goes unseen.
+    /// (`-cpu cortex-m0` is refused there). ARMv6-M is a subset of
+    /// ARMv7-M, so the code and the instruction counts are the M0 build's;
+    /// what an M0 would trap and an M3 does not (an unaligned access) goes
+    /// unseen: [`Board::Microbit`] runs it on an M0 core.
     M0,
+    /// The Cortex-M0 build for the micro:bit (nRF51822, a Cortex-M0 core,
+    /// QEMU `microbit`; `firmware/app` with `--features
+    /// link,board-microbit`).
+    Microbit,
 }
 
 impl Board {
-    /// The board of `--board NAME`: `m4f`, `m3` or `m0`.
+    /// The board of `--board NAME`: `m4f`, `m3`, `m0` or `microbit`.
     pub fn from_name(name: &str) -> Option<Self> {
         match name {
             "m4f" => Some(Board::M4f),
             "m3" => Some(Board::M3),
             "m0" => Some(Board::M0),
+            "microbit" => Some(Board::Microbit),
             _ => None,
+        }
+    }
+
+    /// Retired instructions per SysTick tick under `-icount shift=0` (the
+    /// device reports its cost in ticks): 40 on the MPS2 boards, 62.5 on
+    /// the micro:bit (measured: ../shared QEMU notes, common practice of
+    /// this project's benches).
+    pub fn instructions_per_tick(self) -> f64 {
+        match self {
+            Board::M4f | Board::M3 | Board::M0 => 40.0,
+            Board::Microbit => 62.5,
+        }
+    }
+
+    /// The firmware features of the link build for this board.
+    pub fn features(self) -> &'static str {
+        match self {
+            Board::Microbit => "link,board-microbit",
+            _ => "link",
         }
     }
 
@@ -54,7 +78,7 @@ impl Board {
         match self {
             Board::M4f => "thumbv7em-none-eabihf",
             Board::M3 => "thumbv7m-none-eabi",
-            Board::M0 => "thumbv6m-none-eabi",
+            Board::M0 | Board::Microbit => "thumbv6m-none-eabi",
         }
     }
 
@@ -63,9 +87,18 @@ impl Board {
     /// the repository root.
     pub fn default_elf(self) -> std::path::PathBuf {
         std::path::PathBuf::from(format!(
-            "firmware/app/target/link/{}/release/kappaline-app",
+            "firmware/app/{}/{}/release/kappaline-app",
+            self.target_dir(),
             self.target()
         ))
+    }
+
+    /// The `--target-dir` of the link build in `firmware/app`.
+    pub fn target_dir(self) -> &'static str {
+        match self {
+            Board::Microbit => "target/link-microbit",
+            _ => "target/link",
+        }
     }
 
     fn qemu_args(self) -> &'static [&'static str] {
@@ -73,6 +106,7 @@ impl Board {
             Board::M4f => &["-machine", "mps2-an386"],
             Board::M3 => &["-machine", "mps2-an385"],
             Board::M0 => &["-machine", "mps2-an385"],
+            Board::Microbit => &["-machine", "microbit"],
         }
     }
 }
@@ -102,8 +136,10 @@ impl Qemu {
     pub fn start(elf: &Path, board: Board) -> anyhow::Result<Self> {
         anyhow::ensure!(
             elf.is_file(),
-            "firmware ELF {} not found (build it: cd firmware/app && cargo build --release --features link --target-dir target/link --target {})",
+            "firmware ELF {} not found (build it: cd firmware/app && cargo build --release --features {} --target-dir {} --target {})",
             elf.display(),
+            board.features(),
+            board.target_dir(),
             board.target()
         );
         let port = free_port()?;
