@@ -632,3 +632,35 @@ fn f32_reading_agrees_with_the_f64_path_and_checks_joints_alike() {
     assert_eq!(shifted(0, mrad(1.1)), (turn, turn));
     assert_eq!(shifted(0, mrad(1.1).wrapping_neg()), (turn, turn));
 }
+
+/// The `f32` reading reduces the anchor heading in integer turns to a
+/// quarter turn and a rest: every quarter and the turn's wrap-around give
+/// the tangent and the end point of a 30 m line that the `f64` path has
+/// (reference: `libm::sincos` of the heading, through `PathBuilder<f64>`),
+/// within the quantisation (0.5 mm, 7.3e-10 rad) and `f32` rounding.
+#[test]
+fn f32_reading_places_anchors_in_every_quarter_turn() {
+    for k in -16..=16 {
+        let heading = f64::from(k) * core::f64::consts::FRAC_PI_8 + 0.01;
+        let path = PathBuilder::<f64, CAP>::new(Pose::new(5.0, -3.0, heading))
+            .unwrap()
+            .push(Segment::line(30.0).unwrap())
+            .unwrap()
+            .push(Segment::arc(10.0, 0.05).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let bytes = to_vec(&path, &EncodeOptions::DEFAULT);
+        let (p32, _): (Path<f32, CAP>, _) = decode(&bytes).unwrap();
+        for i in 0..2 {
+            let (a, b) = (path.anchor(i).unwrap(), p32.anchor(i).unwrap());
+            let dh = (a.heading - f64::from(b.heading)).wrap_angle().abs();
+            assert!(dh <= 2e-7, "k {k} anchor {i}: heading off by {dh}");
+            let dp = (a.x - f64::from(b.x)).hypot(a.y - f64::from(b.y));
+            assert!(dp <= 0.71e-3 + 1e-5, "k {k} anchor {i}: {dp}");
+        }
+        let (e, f) = (path.at(path.length()), p32.at(p32.length()));
+        let dp = (e.x - f64::from(f.x)).hypot(e.y - f64::from(f.y));
+        assert!(dp <= 2e-3, "k {k}: end off by {dp}");
+    }
+}
