@@ -138,6 +138,10 @@ pub(crate) fn place<T: Real>(
     };
     let end_station = station.saturating_add(u64::from(raw.length));
     let end = end_of(&placed, &seg, end_station, unit);
+    // As the wide decoder: not finite in `T` first, then out of the plane.
+    if !(end.x.is_finite() && end.y.is_finite() && end.station.is_finite()) {
+        return Err(PathError::NonFinite { index });
+    }
     if !(within_plane(end.x) && within_plane(end.y) && within_plane(end.station)) {
         return Err(PathError::OutOfRange);
     }
