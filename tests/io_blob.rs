@@ -578,3 +578,89 @@ fn sizes() {
     assert_eq!(field.len(), encoded_len(11, true));
     assert!(decoder <= 320, "{decoder}");
 }
+
+/// An `f32` path is read from the blob's integers without `f64` arithmetic
+/// (`src/io/blob/narrow.rs`). Reference: the `f64` path the blob was
+/// written from (closed-form anchors of `PathBuilder` in `f64`): every
+/// anchor, and the pose every metre, agree within the blob's quantisation
+/// (0.5 mm, half a `2^-32` turn) plus `f32` rounding at these coordinates
+/// (below 1e-5 m); and the joint check refuses and accepts what the `f64`
+/// decoder does near the tolerance (2 mm, 1 mrad), the `f32` allowance
+/// (16 eps x 40 m = 0.08 mm) being far below the margins tried.
+#[test]
+fn f32_reading_agrees_with_the_f64_path_and_checks_joints_alike() {
+    let (path, o) = rich();
+    let bytes = to_vec(&path, &o);
+    let (p32, _): (Path<f32, CAP>, _) = decode(&bytes).unwrap();
+    assert_eq!(p32.len(), path.len());
+    for i in 0..path.len() {
+        let (a, b) = (path.anchor(i).unwrap(), p32.anchor(i).unwrap());
+        let dp = (a.x - f64::from(b.x)).hypot(a.y - f64::from(b.y));
+        assert!(dp <= 0.71e-3 + 1e-5, "anchor {i}: {dp}");
+        let dh = (a.heading - f64::from(b.heading)).wrap_angle().abs();
+        assert!(dh <= 1e-6, "anchor {i} heading: {dh}");
+    }
+    assert!((path.length() - f64::from(p32.length())).abs() <= 3e-3);
+    let mut s = 0.0;
+    while s <= path.length() {
+        let (a, b) = (path.at(s), p32.at(s as f32));
+        let dp = (a.x - f64::from(b.x)).hypot(a.y - f64::from(b.y));
+        // Quantised anchors and lengths: 0.71 mm in position, plus the
+        // station shift (up to 5 x 0.5 mm of lengths) along the path.
+        assert!(dp <= 3.5e-3, "at {s}: {dp}");
+        s += 1.0;
+    }
+
+    let bytes = to_vec(&sample(), &EncodeOptions::DEFAULT);
+    let rec1 = HEADER_LEN + RECORD_LEN;
+    let shifted = |dy_mm: i32, dturn: u32| {
+        let mut b = bytes.clone();
+        let y = i32::from_le_bytes(b[rec1 + 4..rec1 + 8].try_into().unwrap()) + dy_mm;
+        b[rec1 + 4..rec1 + 8].copy_from_slice(&y.to_le_bytes());
+        let h = u32::from_le_bytes(b[rec1 + 8..rec1 + 12].try_into().unwrap());
+        b[rec1 + 8..rec1 + 12].copy_from_slice(&h.wrapping_add(dturn).to_le_bytes());
+        fix_crc(&mut b);
+        (decode::<f32, CAP>(&b).err(), decode::<f64, CAP>(&b).err())
+    };
+    let mrad = |m: f64| (m * 1e-3 / core::f64::consts::TAU * 4_294_967_296.0) as u32;
+    let gap = Some(BlobError::Segment(PathError::PositionGap { index: 1 }));
+    let turn = Some(BlobError::Segment(PathError::HeadingGap { index: 1 }));
+    assert_eq!(shifted(1, 0), (None, None));
+    assert_eq!(shifted(3, 0), (gap, gap));
+    assert_eq!(shifted(-3, 0), (gap, gap));
+    assert_eq!(shifted(0, mrad(0.9)), (None, None));
+    assert_eq!(shifted(0, mrad(1.1)), (turn, turn));
+    assert_eq!(shifted(0, mrad(1.1).wrapping_neg()), (turn, turn));
+}
+
+/// The `f32` reading reduces the anchor heading in integer turns to a
+/// quarter turn and a rest: every quarter and the turn's wrap-around give
+/// the tangent and the end point of a 30 m line that the `f64` path has
+/// (reference: `libm::sincos` of the heading, through `PathBuilder<f64>`),
+/// within the quantisation (0.5 mm, 7.3e-10 rad) and `f32` rounding.
+#[test]
+fn f32_reading_places_anchors_in_every_quarter_turn() {
+    for k in -16..=16 {
+        let heading = f64::from(k) * core::f64::consts::FRAC_PI_8 + 0.01;
+        let path = PathBuilder::<f64, CAP>::new(Pose::new(5.0, -3.0, heading))
+            .unwrap()
+            .push(Segment::line(30.0).unwrap())
+            .unwrap()
+            .push(Segment::arc(10.0, 0.05).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let bytes = to_vec(&path, &EncodeOptions::DEFAULT);
+        let (p32, _): (Path<f32, CAP>, _) = decode(&bytes).unwrap();
+        for i in 0..2 {
+            let (a, b) = (path.anchor(i).unwrap(), p32.anchor(i).unwrap());
+            let dh = (a.heading - f64::from(b.heading)).wrap_angle().abs();
+            assert!(dh <= 2e-7, "k {k} anchor {i}: heading off by {dh}");
+            let dp = (a.x - f64::from(b.x)).hypot(a.y - f64::from(b.y));
+            assert!(dp <= 0.71e-3 + 1e-5, "k {k} anchor {i}: {dp}");
+        }
+        let (e, f) = (path.at(path.length()), p32.at(p32.length()));
+        let dp = (e.x - f64::from(f.x)).hypot(e.y - f64::from(f.y));
+        assert!(dp <= 2e-3, "k {k}: end off by {dp}");
+    }
+}

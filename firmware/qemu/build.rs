@@ -1,5 +1,33 @@
-//! Puts memory.x where the linker finds it.
+//! Puts memory.x where the linker finds it, and writes the path blob the
+//! minimal firmware loads (`bin/minimal.rs`).
 use std::{env, fs, path::PathBuf};
+
+use kappaline::io::blob::{encode, encoded_len, EncodeOptions};
+use kappaline::{PathBuilder, Pose, Segment};
+
+/// Segments of the minimal firmware's path (an invented test track).
+const MINIMAL_SEGMENTS: usize = 100;
+
+/// The minimal firmware's path, built on the host in `f64` as a planner
+/// would, and written as a blob: 100 segments repeating a 10 m line, a
+/// 4 m transition to 1/10 m, a 4 m arc and a 4 m transition back.
+fn minimal_blob() -> Vec<u8> {
+    let mut b =
+        PathBuilder::<f64, MINIMAL_SEGMENTS>::new(Pose::new(0.0, 0.0, 0.0)).expect("start pose");
+    for i in 0..MINIMAL_SEGMENTS {
+        let seg = match i % 4 {
+            0 => Segment::line(10.0),
+            1 => Segment::transition(4.0, 0.0, 0.1),
+            2 => Segment::arc(4.0, 0.1),
+            _ => Segment::transition(4.0, 0.1, 0.0),
+        };
+        b.try_push(seg.expect("segment")).expect("push");
+    }
+    let path = b.build().expect("path");
+    let mut blob = vec![0u8; encoded_len(MINIMAL_SEGMENTS, false)];
+    encode(&path, &EncodeOptions::DEFAULT, &mut blob).expect("encode");
+    blob
+}
 
 fn main() {
     let out = PathBuf::from(env::var_os("OUT_DIR").expect("OUT_DIR set by cargo"));
@@ -14,6 +42,8 @@ fn main() {
         "memory-mps2.x"
     };
     fs::copy(memory, out.join("memory.x")).expect("copy memory.x");
+    fs::write(out.join("minimal.kpath"), minimal_blob()).expect("write minimal.kpath");
+    println!("cargo:rerun-if-changed=build.rs");
     println!("cargo:rustc-link-search={}", out.display());
     println!("cargo:rerun-if-changed=memory-microbit.x");
     println!("cargo:rerun-if-changed=memory-mps2.x");

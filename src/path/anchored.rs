@@ -473,6 +473,25 @@ pub struct Path<T: Real, const N: usize> {
 }
 
 impl<T: Real, const N: usize> Path<T, N> {
+    /// A path from records a loader has placed and checked itself (the
+    /// blob decoder on a backend narrower than `f64`, which does so from
+    /// the blob's integers without `f64` arithmetic): `placed` not empty,
+    /// stations increasing, `total` the end station and `end` the end pose
+    /// as a record with zero curvature.
+    pub(crate) fn from_placed(
+        placed: Vec<Placed<T>, N>,
+        total: T,
+        end: Placed<T>,
+        closed: bool,
+    ) -> Self {
+        Self {
+            placed,
+            total,
+            end,
+            closed,
+        }
+    }
+
     /// Builds an open path from a start pose and a list of segments.
     ///
     /// # Errors

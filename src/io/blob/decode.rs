@@ -4,15 +4,19 @@
 use core::fmt;
 
 use crate::io::blob::encode::dequantise;
+use crate::io::blob::narrow::{self, is_wide, Raw};
 use crate::io::blob::{
     BlobError, BlobInfo, Origin, Units, CRC32, CRC_LEN, FLAG_CLOSED, FLAG_CUSPS, FLAG_ORIGIN,
     HEADER_LEN, MAGIC, ORIGIN_LEN, RECORD_LEN, RECORD_REVERSE, VERSION,
 };
 use crate::num::real::Real;
-use crate::path::anchored::{joint_gaps, AnchoredBuilder, AnchoredSegment, Continuity, Path};
+use crate::path::anchored::{
+    joint_gaps, AnchoredBuilder, AnchoredSegment, Continuity, Path, Placed,
+};
 use crate::path::error::PathError;
 use crate::path::pose::{Direction, Pose};
 use crate::path::segment::Segment;
+use heapless::Vec;
 
 /// How far a [`Decoder`] has got after a chunk.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -59,7 +63,30 @@ impl Stage {
 enum Body<T: Real, const N: usize> {
     Waiting,
     Building(AnchoredBuilder<T, N>),
+    /// The records placed so far on a backend narrower than `f64`.
+    Placing(Vec<Placed<T>, N>),
     Built(Path<T, N>),
+}
+
+/// What the decoder keeps of the records before, for the joints.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Joints {
+    /// `f64` backends: the stored values in `f64`.
+    Wide {
+        /// The first record's anchor and driving direction (for the joint
+        /// that closes a loop).
+        first: Option<(Pose<f64>, Direction)>,
+        /// The last record: anchor, segment and driving direction (for the
+        /// joint with the next one).
+        last: Option<(Pose<f64>, Segment<f64>, Direction)>,
+    },
+    /// Narrower backends (`f32`): the stored integers, and the station
+    /// reached, in length units (see `narrow.rs`).
+    Narrow {
+        first: Option<Raw>,
+        last: Option<Raw>,
+        station: u64,
+    },
 }
 
 /// A streaming decoder: feed it the blob in chunks of any size, in order;
@@ -68,8 +95,11 @@ enum Body<T: Real, const N: usize> {
 ///
 /// Memory: the path being built (`N` segments, as [`Path`]) and one record
 /// of 25 bytes; never the whole blob. Cost per byte is constant; each
-/// completed record costs one segment evaluation in `f64` (the anchor
-/// check).
+/// completed record costs two segment evaluations (the anchor check and
+/// the placement), in `f64` for an `f64` path; an `f32` path is read
+/// without `f64` arithmetic, its joints checked in `f32` within the
+/// tolerance plus an allowance for `f32`'s rounding (16 `f32::EPSILON`
+/// times the segment's length and the anchors' distance: 0.2 mm for 50 m).
 ///
 /// ```
 /// use kappaline::io::blob::{encode, encoded_len, Decoder, EncodeOptions, Progress};
@@ -104,12 +134,8 @@ pub struct Decoder<T: Real, const N: usize> {
     body: Body<T, N>,
     /// Records completed.
     records: u16,
-    /// The first record's anchor and driving direction, exactly as stored
-    /// (for the joint that closes a loop).
-    first: Option<(Pose<f64>, Direction)>,
-    /// The last record: anchor, segment and driving direction, exactly as
-    /// stored (for the joint with the next one).
-    last: Option<(Pose<f64>, Segment<f64>, Direction)>,
+    /// The first and last records, exactly as stored.
+    joints: Joints,
     /// A change of driving direction between records.
     saw_cusp: bool,
 }
@@ -143,8 +169,18 @@ impl<T: Real, const N: usize> Decoder<T, N> {
             info: None,
             body: Body::Waiting,
             records: 0,
-            first: None,
-            last: None,
+            joints: if is_wide::<T>() {
+                Joints::Wide {
+                    first: None,
+                    last: None,
+                }
+            } else {
+                Joints::Narrow {
+                    first: None,
+                    last: None,
+                    station: 0,
+                }
+            },
             saw_cusp: false,
         }
     }
@@ -295,8 +331,12 @@ impl<T: Real, const N: usize> Decoder<T, N> {
             heading_tolerance_urad: u16_at(b, 14),
             origin: None,
         };
-        let tolerance: Continuity = info.tolerance();
-        self.body = Body::Building(AnchoredBuilder::new(tolerance).map_err(BlobError::Segment)?);
+        self.body = if is_wide::<T>() {
+            let tolerance: Continuity = info.tolerance();
+            Body::Building(AnchoredBuilder::new(tolerance).map_err(BlobError::Segment)?)
+        } else {
+            Body::Placing(Vec::new())
+        };
         self.info = Some(info);
         self.stage = if flags & FLAG_ORIGIN != 0 {
             Stage::Origin
@@ -341,6 +381,18 @@ impl<T: Real, const N: usize> Decoder<T, N> {
         } else {
             Direction::Forward
         };
+        if !is_wide::<T>() {
+            let raw = Raw {
+                x: i32::from_le_bytes(array_at(b, 0)),
+                y: i32::from_le_bytes(array_at(b, 4)),
+                heading: u32::from_le_bytes(array_at(b, 8)),
+                length: u32::from_le_bytes(array_at(b, 12)),
+                kappa0: i32::from_le_bytes(array_at(b, 16)),
+                sigma: i32::from_le_bytes(array_at(b, 20)),
+                direction,
+            };
+            return self.place_record(&info, raw, index);
+        }
         let (start, length, kappa0, sigma) = dequantise(
             i32::from_le_bytes(array_at(b, 0)),
             i32::from_le_bytes(array_at(b, 4)),
@@ -356,7 +408,12 @@ impl<T: Real, const N: usize> Decoder<T, N> {
         // backend, whatever `T` rounds the anchors to.
         let exact = Segment::<f64>::clothoid(length, kappa0, sigma).map_err(refused)?;
         let tolerance = info.tolerance();
-        if let Some((before, seg, dir)) = &self.last {
+        let Joints::Wide { first, last } = &mut self.joints else {
+            return Err(BlobError::Truncated {
+                received: self.received,
+            });
+        };
+        if let Some((before, seg, dir)) = last {
             let (dp, dh) = joint_gaps(*before, seg, start, *dir != direction);
             if dp.is_nan() || dp > tolerance.position {
                 return Err(BlobError::Segment(PathError::PositionGap { index }));
@@ -383,15 +440,61 @@ impl<T: Real, const N: usize> Decoder<T, N> {
             });
         };
         builder.push_part(part, false).map_err(refused)?;
-        if self.last.is_some_and(|(_, _, d)| d != direction) {
+        if last.is_some_and(|(_, _, d)| d != direction) {
             self.saw_cusp = true;
         }
-        self.first.get_or_insert((start, direction));
-        self.last = Some((start, exact.with_direction(direction), direction));
+        first.get_or_insert((start, direction));
+        *last = Some((start, exact.with_direction(direction), direction));
+        self.record_done(&info);
+        Ok(())
+    }
+
+    /// Counts a record in; the CRC follows the last one.
+    fn record_done(&mut self, info: &BlobInfo) {
         self.records = self.records.saturating_add(1);
         if self.records >= info.segments {
             self.stage = Stage::Crc;
         }
+    }
+
+    /// [`Decoder::read_record`] on a backend narrower than `f64`: the same
+    /// checks, from the integers, in `T` (see `narrow.rs`).
+    fn place_record(&mut self, info: &BlobInfo, raw: Raw, index: usize) -> Result<(), BlobError> {
+        let (
+            Joints::Narrow {
+                first,
+                last,
+                station,
+            },
+            Body::Placing(placed),
+        ) = (&mut self.joints, &mut self.body)
+        else {
+            return Err(BlobError::Truncated {
+                received: self.received,
+            });
+        };
+        if let (Some(before), Some(p)) = (last.as_ref(), placed.last()) {
+            narrow::check_joint(
+                before,
+                p,
+                &raw,
+                info,
+                before.direction != raw.direction,
+                index,
+            )?;
+        }
+        let (p, end) =
+            narrow::place::<T>(&raw, &info.units, *station, index).map_err(BlobError::Segment)?;
+        placed
+            .push(p)
+            .map_err(|_| BlobError::Segment(PathError::CapacityExceeded))?;
+        if last.is_some_and(|l| l.direction != raw.direction) {
+            self.saw_cusp = true;
+        }
+        first.get_or_insert(raw);
+        *last = Some(raw);
+        *station = end;
+        self.record_done(info);
         Ok(())
     }
 
@@ -406,7 +509,18 @@ impl<T: Real, const N: usize> Decoder<T, N> {
                 received: self.received,
             });
         };
-        let (Some((first, first_dir)), Some((before, seg, last_dir))) = (self.first, self.last)
+        if let Joints::Narrow {
+            first,
+            last,
+            station,
+        } = self.joints
+        {
+            return self.finish_placing(&info, first, last, station);
+        }
+        let Joints::Wide {
+            first: Some((first, first_dir)),
+            last: Some((before, seg, last_dir)),
+        } = self.joints
         else {
             return Err(BlobError::NoSegments);
         };
@@ -436,6 +550,37 @@ impl<T: Real, const N: usize> Decoder<T, N> {
         self.stage = Stage::Done;
         Ok(())
     }
+
+    /// The end of [`Decoder::read_crc`] on a backend narrower than `f64`.
+    fn finish_placing(
+        &mut self,
+        info: &BlobInfo,
+        first: Option<Raw>,
+        last: Option<Raw>,
+        station: u64,
+    ) -> Result<(), BlobError> {
+        let (Some(first), Some(last)) = (first, last) else {
+            return Err(BlobError::NoSegments);
+        };
+        let closing_cusp = info.closed && first.direction != last.direction;
+        if info.cusps != (self.saw_cusp || closing_cusp) {
+            return Err(BlobError::CuspFlagMismatch);
+        }
+        let Body::Placing(placed) = core::mem::replace(&mut self.body, Body::Waiting) else {
+            return Err(BlobError::Truncated {
+                received: self.received,
+            });
+        };
+        if info.closed {
+            if let Some(p) = placed.last() {
+                narrow::check_joint(&last, p, &first, info, closing_cusp, 0)?;
+            }
+        }
+        let end = narrow::path_end(&last, &placed, station, &info.units)?;
+        self.body = Body::Built(Path::from_placed(placed, end.station, end, info.closed));
+        self.stage = Stage::Done;
+        Ok(())
+    }
 }
 
 /// Decodes a blob held whole in memory (flash, a received buffer).
@@ -454,7 +599,7 @@ pub fn decode<T: Real, const N: usize>(bytes: &[u8]) -> Result<(Path<T, N>, Blob
 }
 
 /// The segment error with the index the segment has in the blob.
-fn at_index(e: PathError, index: usize) -> PathError {
+pub(crate) fn at_index(e: PathError, index: usize) -> PathError {
     match e {
         PathError::NonFinite { .. } => PathError::NonFinite { index },
         PathError::NonPositiveLength { .. } => PathError::NonPositiveLength { index },

@@ -82,6 +82,7 @@
 
 mod decode;
 mod encode;
+mod narrow;
 
 pub use decode::{decode, Decoder, Progress};
 pub use encode::{encode, encoded_len, EncodeError, EncodeOptions};
