@@ -43,7 +43,7 @@ OUT_ROOT=target/mutants
 # The cargo test targets that judge FILE (unit tests always; integration
 # targets by topic, to keep each mutant's build small). They are given to
 # every cargo invocation (`--cargo-arg`), so each mutant builds only them.
-GUIDANCE_TESTS="--test steering_supervisor --test steering_supervisor_edges --test steering_guidance_edges --test steering_closed_loop --test steering_laws --test steering_preview --test steering_reverse --test steering_uptime --test io_actuator"
+GUIDANCE_TESTS="--test steering_supervisor --test steering_supervisor_edges --test steering_guidance_edges --test steering_closed_loop --test steering_laws --test steering_preview --test steering_reverse --test steering_uptime"
 TRACKER_TESTS="--test core_tracker --test core_tracker_edges --test core_cusp --test core_drift --test core_projection --test core_props --test core_api --test core_bad_input --test build_passes"
 tests_for() {
   case "$1" in
