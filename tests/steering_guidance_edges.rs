@@ -10,10 +10,18 @@
 //! (`Vehicle::with_steer_lag`, time constant `tau`), discretised as
 //! `d += (u - d) dt / (tau + dt)` (backward Euler on `tau d' = u - d`, any
 //! control text), with `u` the command of the cycle before.
+//!
+//! Then the guidance's edges, each at and either side of it (the contract in
+//! the module docs of `src/guide/guidance.rs` and `src/guide/supervisor.rs`):
+//! the stop request and the change of leg at a cusp (`cusp_tolerance`,
+//! `stopped_speed`), the end of an open path (`end_tolerance`), the
+//! cross-track and heading limits, and the last check that replaces a
+//! non-finite command by the `Fault` command.
 
 use kappaline::{
-    Fix, FixUpdate, Guidance, GuidanceInput, GuidanceStatus, Micros, Path, PathBuilder, Pose,
-    PurePursuit, Segment, SupervisorConfig, TrackerConfig, Vehicle,
+    AnchoredSegment, Command, Continuity, Direction, Fix, FixUpdate, Guidance, GuidanceInput,
+    GuidanceStatus, Micros, Path, PathBuilder, Pose, PurePursuit, Reason, Segment,
+    SupervisorConfig, TrackerConfig, Vehicle,
 };
 
 const DT_US: u32 = 50_000;
@@ -141,4 +149,237 @@ fn on_a_circle_a_late_fix_lands_on_the_circle() {
         }
         now = now.add_micros(DT_US);
     }
+}
+
+fn tractor() -> Vehicle<f64> {
+    Vehicle::front_steered(2.5, 35f64.to_radians(), 40f64.to_radians()).unwrap()
+}
+
+/// Tolerances that are binary fractions, so the edges are exact.
+fn edges_config() -> SupervisorConfig<f64> {
+    SupervisorConfig {
+        cusp_tolerance: 0.125,
+        end_tolerance: 0.125,
+        stopped_speed: 0.25,
+        ..SupervisorConfig::default_for(&tractor())
+    }
+}
+
+/// A 20 m line forward from the origin along x, a cusp at (20, 0), and 20 m
+/// reversing back along it (the body still heading along +x): the two legs
+/// lie on top of each other, so only the leg carried from cycle to cycle
+/// says which one is driven.
+fn there_and_back() -> Path<f64, 4> {
+    let parts = [
+        AnchoredSegment {
+            segment: Segment::line(20.0).unwrap(),
+            start: Pose::new(0.0, 0.0, 0.0),
+        },
+        AnchoredSegment {
+            segment: Segment::line(20.0).unwrap().reversed(),
+            start: Pose::new(20.0, 0.0, core::f64::consts::PI),
+        },
+    ];
+    // The cusp flips the path tangent by pi (the body heading stays).
+    let joint = Continuity {
+        position: 1e-9,
+        heading: core::f64::consts::PI,
+    };
+    Path::from_anchored(&parts, joint, false).unwrap()
+}
+
+/// Guidance on `path`, driven by fixes on the x axis from x = 15 at 2 m/s
+/// (0.1 m per 50 ms cycle) to x = 19.8, then one fix at `x` with `speed`;
+/// the last command.
+fn approach(path: &Path<f64, 4>, x: f64, speed: f64) -> Command<f64> {
+    let v = tractor();
+    let mut g = Guidance::new(
+        v,
+        PurePursuit::tractor(),
+        TrackerConfig::tractor(),
+        edges_config(),
+    )
+    .unwrap();
+    let mut now = Micros(1_000_000);
+    for n in 0..=48 {
+        let fx = 15.0 + 0.1 * f64::from(n);
+        let c = g.step(
+            path,
+            &GuidanceInput::new(FixUpdate::New(Fix::new(fx, 0.0, 0.0, 2.0, now)), now, DT_US),
+        );
+        assert_eq!(c.status, GuidanceStatus::Following, "{fx}: {c:?}");
+        assert_eq!(
+            c.tracking.unwrap().foot.direction,
+            Direction::Forward,
+            "{fx}"
+        );
+        now = now.add_micros(DT_US);
+    }
+    let fix = Fix::new(x, 0.0, 0.0, speed, now);
+    g.step(path, &GuidanceInput::new(FixUpdate::New(fix), now, DT_US))
+}
+
+#[test]
+fn stop_request_before_a_cusp_starts_at_cusp_tolerance() {
+    // "once it is within cusp_tolerance of the cusp" the vehicle is asked to
+    // stop: at 20 - 0.125 m the speed limit is 0; 1 um before it the speed
+    // cap still allows the braking speed sqrt(2 a d) (a = 1 m/s^2, d the
+    // distance left after one period at 0.5 m/s: kinematics).
+    let path = there_and_back();
+    let before = approach(&path, 19.875 - 1e-6, 0.5);
+    assert_eq!(before.status, GuidanceStatus::Following);
+    let d = 20.0 - (19.875 - 1e-6 + 0.5 * DT);
+    assert!(
+        (before.speed_limit - (2.0 * d).sqrt()).abs() < 1e-9,
+        "{}",
+        before.speed_limit
+    );
+    let at = approach(&path, 19.875, 0.5);
+    assert_eq!(
+        (at.status, at.speed_limit),
+        (GuidanceStatus::Following, 0.0)
+    );
+    // Still on the forward leg: not stopped yet (0.5 m/s > 0.25 m/s).
+    assert_eq!(at.tracking.unwrap().foot.direction, Direction::Forward);
+}
+
+#[test]
+fn next_leg_only_once_stopped_within_cusp_tolerance() {
+    // The next leg becomes current "once it is within cusp_tolerance of the
+    // cusp and slower than stopped_speed" (at stopped_speed itself too).
+    let path = there_and_back();
+    for (x, speed, want) in [
+        (19.875, 0.25, Direction::Reverse),
+        (19.875, 0.0, Direction::Reverse),
+        (19.875, -0.25, Direction::Reverse),
+        (19.875, 0.25 + 1e-9, Direction::Forward),
+        (19.875 - 1e-6, 0.0, Direction::Forward),
+        (20.0, 0.1, Direction::Reverse),
+    ] {
+        let c = approach(&path, x, speed);
+        assert_eq!(c.status, GuidanceStatus::Following, "{x} {speed}: {c:?}");
+        let t = c.tracking.unwrap();
+        assert_eq!(t.foot.direction, want, "{x} {speed}");
+        if want == Direction::Reverse {
+            // On the reverse leg, projected from its start: the station is
+            // the cusp's (20 m), within the tolerance, and the cap is that
+            // of the 20 m leg ahead (no stop request).
+            assert!((t.station - 20.0).abs() < 0.13, "{}", t.station);
+            assert!(c.speed_limit > 0.0, "{x} {speed}: {}", c.speed_limit);
+        } else if x >= 19.875 {
+            assert_eq!(c.speed_limit, 0.0, "{x} {speed}");
+        } else {
+            // The braking speed over what is left after one period.
+            let d = 20.0 - (x + speed * DT);
+            assert!(
+                (c.speed_limit - (2.0 * d).sqrt()).abs() < 1e-9,
+                "{}",
+                c.speed_limit
+            );
+        }
+    }
+}
+
+#[test]
+fn end_of_path_at_end_tolerance() {
+    // EndOfPath "within end_tolerance of the end of an open path": at
+    // 20 - 0.125 m, not 1 um before.
+    let path: Path<f64, 4> = PathBuilder::new(Pose::new(0.0, 0.0, 0.0))
+        .unwrap()
+        .push(Segment::line(20.0).unwrap())
+        .unwrap()
+        .build()
+        .unwrap();
+    let before = approach(&path, 19.875 - 1e-6, 0.5);
+    assert_eq!(before.status, GuidanceStatus::Following);
+    let at = approach(&path, 19.875, 0.5);
+    assert_eq!(
+        (at.status, at.speed_limit),
+        (GuidanceStatus::EndOfPath, 0.0)
+    );
+}
+
+/// The first command of a guidance given one fix at `(x, y)`, heading `h`
+/// on the line y = 0.
+fn first(x: f64, y: f64, h: f64) -> Command<f64> {
+    let path: Path<f64, 4> = PathBuilder::new(Pose::new(0.0, 0.0, 0.0))
+        .unwrap()
+        .push(Segment::line(100.0).unwrap())
+        .unwrap()
+        .build()
+        .unwrap();
+    let v = tractor();
+    let mut g = Guidance::new(
+        v,
+        PurePursuit::tractor(),
+        TrackerConfig::tractor(),
+        edges_config(),
+    )
+    .unwrap();
+    let fix = Fix::new(x, y, h, 2.0, Micros(0));
+    g.step(
+        &path,
+        &GuidanceInput::new(FixUpdate::New(fix), Micros(0), DT_US),
+    )
+}
+
+#[test]
+fn acquisition_within_the_error_limits_at_their_edges() {
+    // Acquired "only within the cross-track and heading limits" (1.5 m,
+    // 1.0 rad): at the limit it follows, beyond it it stays acquiring with
+    // OffLimits; on either side of the path.
+    for side in [1.0, -1.0] {
+        let at = first(10.0, 1.5 * side, 0.0);
+        assert_eq!(at.status, GuidanceStatus::Following, "{at:?}");
+        let out = first(10.0, (1.5 + 1e-6) * side, 0.0);
+        assert_eq!(
+            (out.status, out.reason),
+            (GuidanceStatus::Acquiring, Some(Reason::OffLimits))
+        );
+        let at = first(10.0, 0.0, (1.0 - 1e-9) * side);
+        assert_eq!(at.status, GuidanceStatus::Following, "{at:?}");
+        let out = first(10.0, 0.0, (1.0 + 1e-9) * side);
+        assert_eq!(
+            (out.status, out.reason),
+            (GuidanceStatus::Acquiring, Some(Reason::OffLimits))
+        );
+    }
+}
+
+#[test]
+fn a_command_that_would_not_be_finite_is_the_fault_command() {
+    // "a last check replaces anything non-finite by the Fault command". A
+    // 0.1 m wheelbase with 80 degrees of steering turns at up to
+    // tan(80 deg) / 0.1 = 57 1/m; a fix reporting f64::MAX m/s (finite, so
+    // it passes the fix checks) on a tight arc makes the yaw rate,
+    // curvature times speed, overflow to infinity.
+    // A slow actuator (0.1 rad/s: 1 1/m/s at this wheelbase) seeded at
+    // 2 1/m keeps the curvature above 1.9 1/m whatever the law asks.
+    let v = Vehicle::front_steered(0.1, 80f64.to_radians(), 0.1).unwrap();
+    let path: Path<f64, 4> = PathBuilder::new(Pose::new(0.0, 0.0, 0.0))
+        .unwrap()
+        .push(Segment::arc(3.0, 2.0).unwrap())
+        .unwrap()
+        .build()
+        .unwrap();
+    let mut g = Guidance::new(
+        v,
+        PurePursuit::tractor(),
+        TrackerConfig::small_robot(),
+        edges_config(),
+    )
+    .unwrap();
+    g.seed_curvature(2.0);
+    let p = path.at(1.0);
+    let fix = Fix::new(p.x, p.y, p.heading(), f64::MAX, Micros(0));
+    let c = g.step(
+        &path,
+        &GuidanceInput::new(FixUpdate::New(fix), Micros(0), DT_US),
+    );
+    assert_eq!(
+        (c.status, c.reason),
+        (GuidanceStatus::Fault, Some(Reason::BadFix)),
+        "{c:?}"
+    );
+    assert!(c.curvature.is_finite() && c.yaw_rate == 0.0 && c.speed_limit == 0.0);
 }
