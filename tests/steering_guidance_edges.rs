@@ -103,51 +103,61 @@ fn late_fixes_are_carried_along_the_arc_of_the_lagged_command() {
 
 #[test]
 fn on_a_circle_a_late_fix_lands_on_the_circle() {
-    // Circle of radius 5 m (curvature 0.2 1/m) about (0, 5), driven
-    // counter-clockwise at 2 m/s from the origin, fixes 0.1 s old. Once the
-    // command has settled on 0.2 1/m, each fix dead-reckoned to `now` is
-    // the point of the circle where the vehicle is now: no cross-track or
-    // heading error, the station 2 m/s * t. Carried straight on instead it
-    // would be 0.04 rad late and outside the circle.
-    let (r, v_ms, age) = (5.0f64, 2.0f64, 0.1f64);
-    let path: Path<f64, 4> = PathBuilder::new(Pose::new(0.0, 0.0, 0.0))
-        .unwrap()
-        .push(Segment::arc(30.0, 1.0 / r).unwrap())
-        .unwrap()
-        .build()
+    // A circle of radius r about (0, r), driven counter-clockwise at v from
+    // 1 m along it, fixes `age` seconds old. Once the command has settled on
+    // the circle's curvature, each fix dead-reckoned to `now` is the point
+    // of the circle where the vehicle is now: no cross-track or heading
+    // error, the station 1 + v t. Carried straight on instead it would be
+    // v age / r rad late (0.04, 0.25) and outside the circle. The second
+    // case turns by more than the small-angle series covers (half-turn
+    // 0.125 rad).
+    for (r, v_ms, age, wheelbase) in [(5.0f64, 2.0f64, 0.1f64, 2.5), (2.5, 2.5, 0.25, 1.5)] {
+        let k = 1.0 / r;
+        let path: Path<f64, 4> = PathBuilder::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::arc(30.0, k).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let v = Vehicle::front_steered(wheelbase, 40f64.to_radians(), 40f64.to_radians()).unwrap();
+        let mut g = Guidance::new(
+            v,
+            PurePursuit::tractor(),
+            TrackerConfig::tractor(),
+            SupervisorConfig::default_for(&v),
+        )
         .unwrap();
-    let v = Vehicle::front_steered(2.5, 35f64.to_radians(), 40f64.to_radians()).unwrap();
-    let mut g = Guidance::new(
-        v,
-        PurePursuit::tractor(),
-        TrackerConfig::tractor(),
-        SupervisorConfig::default_for(&v),
-    )
-    .unwrap();
-    let start = 1.0; // metres along the circle at t = 0
-    let on_circle = |s: f64| {
-        let a = s / r;
-        (r * a.sin(), r - r * a.cos(), a)
-    };
-    let mut now = Micros(1_000_000);
-    for n in 0..100 {
-        let t = f64::from(n) * DT;
-        let (x, y, a) = on_circle(start + v_ms * (t - age));
-        let fix = Fix::new(x, y, a, v_ms, now.sub_micros(100_000));
-        let c = g.step(&path, &GuidanceInput::new(FixUpdate::New(fix), now, DT_US));
-        assert_eq!(c.status, GuidanceStatus::Following, "{n}: {c:?}");
-        let k = c.tracking.unwrap();
-        if n >= 60 {
-            assert!((c.curvature - 0.2).abs() < 1e-3, "{n}: {}", c.curvature);
-            assert!(k.heading_error.abs() < 2e-4, "{n}: {}", k.heading_error);
-            assert!(k.cross_track.abs() < 1e-4, "{n}: {}", k.cross_track);
-            assert!(
-                (k.station - (start + v_ms * t)).abs() < 1e-4,
-                "{n}: {}",
-                k.station
-            );
+        let start = 1.0;
+        let on_circle = |s: f64| {
+            let a = s / r;
+            (r * a.sin(), r - r * a.cos(), a)
+        };
+        let mut now = Micros(1_000_000);
+        let age_us = (age * 1e6) as u32;
+        for n in 0..100 {
+            let t = f64::from(n) * DT;
+            let (x, y, a) = on_circle(start + v_ms * (t - age));
+            let fix = Fix::new(x, y, a, v_ms, now.sub_micros(age_us));
+            let c = g.step(&path, &GuidanceInput::new(FixUpdate::New(fix), now, DT_US));
+            assert_eq!(c.status, GuidanceStatus::Following, "{r} {n}: {c:?}");
+            let e = c.tracking.unwrap();
+            if n >= 60 {
+                assert!((c.curvature - k).abs() < 1e-3, "{r} {n}: {}", c.curvature);
+                let turn_err = (c.curvature - k).abs() * v_ms * age;
+                assert!(
+                    e.heading_error.abs() < 1e-6 + turn_err,
+                    "{r} {n}: {}",
+                    e.heading_error
+                );
+                assert!(e.cross_track.abs() < 1e-4, "{r} {n}: {}", e.cross_track);
+                assert!(
+                    (e.station - (start + v_ms * t)).abs() < 1e-4,
+                    "{r} {n}: {}",
+                    e.station
+                );
+            }
+            now = now.add_micros(DT_US);
         }
-        now = now.add_micros(DT_US);
     }
 }
 
