@@ -480,3 +480,48 @@ fn laps_of_a_closed_path_never_stop_at_the_seam() {
     }
     assert_eq!(seams, 2, "two seams crossed with fixes");
 }
+
+#[test]
+fn losing_the_path_and_leaving_the_limits_say_why() {
+    // Following -> Lost "a limit is exceeded or the tracker reports Lost",
+    // each with its reason: with a cross-track limit of 3 m beyond the
+    // tracker's 2 m, a vehicle drifting off sideways (0.25 m per cycle,
+    // within the jump tolerance) is lost by the tracker first (PathLost);
+    // with the 1.5 m limit inside it, by the limit (OffLimits).
+    for (limit, reason, at) in [(3.0, Reason::PathLost, 2.0), (1.5, Reason::OffLimits, 1.5)] {
+        let v = tractor();
+        let cfg = SupervisorConfig {
+            max_cross_track: limit,
+            ..SupervisorConfig::default_for(&v)
+        };
+        let path: Path<f64, 4> = PathBuilder::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::line(100.0).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let mut g =
+            Guidance::new(v, PurePursuit::tractor(), TrackerConfig::tractor(), cfg).unwrap();
+        let mut now = Micros(0);
+        let mut lost_at = None;
+        for n in 0..12 {
+            let (x, y) = (10.0 + 0.1 * f64::from(n), 0.25 * f64::from(n));
+            let c = g.step(
+                &path,
+                &GuidanceInput::new(FixUpdate::New(Fix::new(x, y, 0.0, 2.0, now)), now, DT_US),
+            );
+            if c.status == GuidanceStatus::Lost {
+                // (Later cycles try to re-acquire, with their own reasons.)
+                if lost_at.is_none() {
+                    assert_eq!(c.reason, Some(reason), "{limit}");
+                    lost_at = Some(y);
+                }
+            } else {
+                assert_eq!(c.status, GuidanceStatus::Following, "{limit} {y}");
+            }
+            now = now.add_micros(DT_US);
+        }
+        // The first fix beyond the edge (2 m, 1.5 m) is the first lost one.
+        assert_eq!(lost_at, Some(at + 0.25), "{limit}");
+    }
+}
