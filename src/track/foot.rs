@@ -705,4 +705,105 @@ mod tests {
             }
         }
     }
+
+    #[test]
+    fn reach_in_f32_and_where_the_first_base_goes() {
+        // f32 reaches as far as f64 on an arc (the documented rule does not
+        // depend on the type): min(8, 0.5 / 0.05) = 8 m.
+        let path = PathBuilder::<f32, 2>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::arc(40.0, 0.05).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let b = Base::make(&path, 0, 20.0);
+        assert_eq!((b.lo, b.hi), (12.0, 28.0));
+        // The first point within the anchor's reach is stepped from a base
+        // at the anchor (no evaluation: "at a segment's anchor"); one beyond
+        // it gets a base of its own.
+        let arc = single(Segment::arc(40.0, 0.1).unwrap());
+        for (u, u0) in [(3.0, 0.0), (5.0, 0.0), (7.0, 7.0)] {
+            let mut st = Stepper::default();
+            st.near_point(&arc, 0, u);
+            assert_eq!(st.near.u0, u0, "{u}");
+        }
+    }
+
+    /// Nodes and weights of the n-point Gauss-Legendre rule on [-1, 1]
+    /// (Abramowitz & Stegun 25.4.29), the nodes by Newton's method on the
+    /// Legendre polynomial from its three-term recurrence.
+    fn gauss_legendre(n: usize) -> std::vec::Vec<(f64, f64)> {
+        let mut out = std::vec::Vec::new();
+        for i in 1..=n {
+            let mut x = libm::cos(core::f64::consts::PI * (i as f64 - 0.25) / (n as f64 + 0.5));
+            let mut dp = 0.0;
+            for _ in 0..100 {
+                let (mut p0, mut p1) = (1.0, x);
+                for k in 2..=n {
+                    let k = k as f64;
+                    let p2 = ((2.0 * k - 1.0) * x * p1 - (k - 1.0) * p0) / k;
+                    p0 = p1;
+                    p1 = p2;
+                }
+                dp = n as f64 * (x * p1 - p0) / (x * x - 1.0);
+                let dx = p1 / dp;
+                x -= dx;
+                if dx.abs() < 1e-17 {
+                    break;
+                }
+            }
+            out.push((x, 2.0 / ((1.0 - x * x) * dp * dp)));
+        }
+        out
+    }
+
+    #[test]
+    fn series_step_matches_quadrature_of_the_definition() {
+        // From a base with curvature k and sharpness s the curve is
+        // x' = cos theta, y' = sin theta, theta = k h + s h^2 / 2 (in the
+        // base's frame): its displacement by 20-point Gauss-Legendre
+        // quadrature, exact here to the rounding of f64, against the series
+        // step. Module docs: truncation below twice the tolerance (1e-16)
+        // times the reach; the rest is the rounding of a dozen Horner steps
+        // on h (a few 1e-16 m per metre).
+        let gl = gauss_legendre(20);
+        let cases: [(Segment<f64>, f64); 6] = [
+            (Segment::arc(30.0, 0.05).unwrap(), 11.0),
+            (Segment::arc(30.0, -0.5).unwrap(), 3.0),
+            (Segment::transition(30.0, 0.0, 0.3).unwrap(), 0.0),
+            (Segment::transition(30.0, 0.3, -0.4).unwrap(), 17.0),
+            (Segment::transition(50.0, 5.0, -5.0).unwrap(), 25.0),
+            (Segment::transition(12.0, -0.8, 0.8).unwrap(), 6.0),
+        ];
+        for (seg, u0) in cases {
+            let path = single(seg);
+            let b = Base::make(&path, 0, u0);
+            let (k, sg) = (b.kappa, b.sigma);
+            let mut worst = 0.0f64;
+            for j in 0..=40 {
+                let u = b.lo + (b.hi - b.lo) * f64::from(j) / 40.0;
+                let h = u - u0;
+                let (mut x, mut y) = (0.0, 0.0);
+                for &(t, w) in &gl {
+                    let v = 0.5 * h * (t + 1.0);
+                    let th = k * v + 0.5 * sg * v * v;
+                    x += 0.5 * h * w * libm::cos(th);
+                    y += 0.5 * h * w * libm::sin(th);
+                }
+                let th = k * h + 0.5 * sg * h * h;
+                let (e, d) = b.series(h);
+                let err = (d.re - x).abs().max((d.im - y).abs());
+                let terr = (e.re - libm::cos(th))
+                    .abs()
+                    .max((e.im - libm::sin(th)).abs());
+                worst = worst.max(err);
+                let tol = 1e-15 * (1.0 + h.abs());
+                assert!(
+                    err < tol && terr < tol,
+                    "{seg:?} u0 {u0} h {h}: {err:e} {terr:e}"
+                );
+            }
+            std::println!("{seg:?}: worst series vs quadrature {worst:e}");
+        }
+    }
 }
