@@ -806,4 +806,102 @@ mod tests {
             std::println!("{seg:?}: worst series vs quadrature {worst:e}");
         }
     }
+
+    /// The number of coefficients the module docs' cut rule asks for at
+    /// reach `r`, or `None` beyond `MAX_TERMS`: on a clothoid the first `n`
+    /// where two consecutive majorant terms `m_n r^n` (with `(n + 1)
+    /// m_(n+1) = |k| m_n + |sigma| m_(n-1)`, `m_0 = 1`) are below the
+    /// tolerance together; on an arc the first `j` where the term
+    /// `(|k| r)^(2j + 2) / (2j + 3)!` of the sine's series is.
+    fn documented_terms(k: f64, sigma: f64, r: f64, tol: f64) -> Option<usize> {
+        if sigma == 0.0 {
+            let mut w = 1.0;
+            for j in 0..MAX_TERMS {
+                let n = 2.0 * j as f64;
+                w *= (k * r) * (k * r) / ((n + 2.0) * (n + 3.0));
+                if w <= tol {
+                    return Some(j + 1);
+                }
+            }
+            return None;
+        }
+        let (mut m_prev, mut m) = (0.0, 1.0);
+        for n in 0..MAX_TERMS {
+            let next = (k.abs() * r * m + sigma.abs() * r * r * m_prev) / (n as f64 + 1.0);
+            m_prev = m;
+            m = next;
+            if m + m_prev <= tol {
+                return Some(n + 1);
+            }
+        }
+        None
+    }
+
+    #[test]
+    fn terms_and_reach_follow_the_documented_cut_rule() {
+        // "the series is cut where two consecutive m_n r^n ... fall below the
+        // type's tolerance together"; "if MAX_TERMS coefficients do not
+        // reach the tolerance the reach is halved until they do". The reach
+        // before halving is the documented one (see reach_is_the_documented_one).
+        let cases: [(Segment<f64>, f64, f64); 7] = [
+            (Segment::arc(100.0, 0.05).unwrap(), 50.0, 8.0),
+            (Segment::arc(100.0, 0.25).unwrap(), 50.0, 2.0),
+            (Segment::arc(100.0, 3.0).unwrap(), 50.0, 0.5 / 3.0),
+            (Segment::transition(100.0, 0.0, 0.125).unwrap(), 50.0, 2.0),
+            (
+                Segment::transition(100.0, 0.0, 1.0).unwrap(),
+                50.0,
+                0.5 / 0.51,
+            ),
+            (
+                Segment::transition(50.0, 5.0, -5.0).unwrap(),
+                25.0,
+                0.5 / 0.2,
+            ),
+            (Segment::transition(30.0, 0.3, -0.4).unwrap(), 3.0, 2.0),
+        ];
+        for (seg, u, reach0) in cases {
+            let path = single(seg);
+            let b = Base::make(&path, 0, u);
+            let (k, sg) = (b.kappa, b.sigma);
+            // The documented turn bound, (|k| + |sigma| max / 2) r <= MAX_TURN.
+            let max = if sg == 0.0 { MAX_REACH } else { CLOTHOID_REACH };
+            let rate = k.abs() + sg.abs() * max / 2.0;
+            let mut r = if rate * max <= MAX_TURN {
+                max
+            } else {
+                MAX_TURN / rate
+            };
+            assert!(r <= reach0 + 1e-12, "{seg:?}: {r} vs {reach0}");
+            let mut want = None;
+            for _ in 0..REACH_HALVINGS {
+                want = documented_terms(k, sg, r, 1e-16);
+                if want.is_some() {
+                    break;
+                }
+                r *= 0.5;
+            }
+            assert_eq!(Some(b.terms), want, "{seg:?} at {u}");
+            assert!(
+                (b.hi - u - r).abs() < 1e-12 && (u - b.lo - r).abs() < 1e-12,
+                "{seg:?}: reach {} vs {r}",
+                b.hi - u
+            );
+        }
+        // f32: tolerance 1e-8.
+        let path = PathBuilder::<f32, 2>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::transition(40.0, 0.1, 0.5).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let b = Base::make(&path, 0, 20.0);
+        let want = documented_terms(
+            f64::from(b.kappa),
+            f64::from(b.sigma),
+            f64::from(b.hi - 20.0),
+            1e-8,
+        );
+        assert_eq!(Some(b.terms), want);
+    }
 }
