@@ -55,8 +55,11 @@ tests_for() {
       echo "--lib --test core_projection --test core_props --test core_precision --test core_tracker" ;;
     src/guide/supervisor.rs | src/guide/guidance.rs)
       echo "--lib $GUIDANCE_TESTS" ;;
-    src/track/tracker.rs | src/track/foot.rs)
+    src/track/tracker.rs)
       echo "--lib $TRACKER_TESTS $GUIDANCE_TESTS" ;;
+    src/track/foot.rs)
+      # The unit tests alone (one build of the crate per mutant, for time).
+      echo "--lib" ;;
     *)
       echo "--lib --tests" ;;
   esac
