@@ -473,6 +473,16 @@ mod tests {
                 worst = worst.max(e).max(t);
                 assert!(e < tol && t < tol, "seg {i} u {u}: {e:e} {t:e}");
                 assert!((a.curvature - b.curvature).abs() < 1e-15);
+                // The point says where it is: its segment, station and
+                // driving direction are those of the closed form's.
+                assert_eq!(
+                    (a.segment, a.direction),
+                    (b.segment, b.direction),
+                    "seg {i}"
+                );
+                assert!((a.station - b.station).abs() < 1e-12, "seg {i} u {u}");
+                // And the base that served it lies on that segment.
+                assert!(st.near.covers(i, u), "seg {i} u {u}");
             }
         }
         std::println!("worst stepped vs closed form: {worst:e}");
