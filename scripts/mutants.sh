@@ -35,12 +35,16 @@ SAFETY_FILES=(
   src/track/tracker.rs
   src/guide/supervisor.rs
   src/guide/guidance.rs
+  src/track/foot.rs
 )
 EQUIVALENT=tests/mutants-equivalent.txt
 OUT_ROOT=target/mutants
 
 # The cargo test targets that judge FILE (unit tests always; integration
-# targets by topic, to keep each mutant's build small).
+# targets by topic, to keep each mutant's build small). They are given to
+# every cargo invocation (`--cargo-arg`), so each mutant builds only them.
+GUIDANCE_TESTS="--test steering_supervisor --test steering_supervisor_edges --test steering_guidance_edges --test steering_closed_loop --test steering_laws --test steering_preview --test steering_reverse --test steering_uptime"
+TRACKER_TESTS="--test core_tracker --test core_tracker_edges --test core_cusp --test core_drift --test core_projection --test core_props --test core_api --test core_bad_input --test build_passes"
 tests_for() {
   case "$1" in
     src/steer/speed.rs | src/steer/limits.rs)
@@ -49,6 +53,13 @@ tests_for() {
       echo "--lib --test steering_laws --test steering_closed_loop --test steering_reverse" ;;
     src/path/project.rs)
       echo "--lib --test core_projection --test core_props --test core_precision --test core_tracker" ;;
+    src/guide/supervisor.rs | src/guide/guidance.rs)
+      echo "--lib $GUIDANCE_TESTS" ;;
+    src/track/tracker.rs)
+      echo "--lib $TRACKER_TESTS $GUIDANCE_TESTS" ;;
+    src/track/foot.rs)
+      # The unit tests alone (one build of the crate per mutant, for time).
+      echo "--lib" ;;
     *)
       echo "--lib --tests" ;;
   esac
@@ -116,8 +127,10 @@ for args in "${groups[@]}"; do
   # cargo-mutants exits 2 when mutants are missed, 3 on timeouts: the
   # counts below decide, so only a failure to run at all (1, 4) stops here.
   rc=0
+  cargo_args=()
+  for a in "${test_args[@]}"; do cargo_args+=("--cargo-arg=$a"); done
   nice -n 15 cargo mutants --jobs 1 --timeout "${MUTANTS_TIMEOUT:-60}" \
-    --no-shuffle --colors never "${iterate[@]}" "${file_args[@]}" -o "$out" -- "${test_args[@]}" || rc=$?
+    --no-shuffle --colors never "${iterate[@]}" "${file_args[@]}" -o "$out" "${cargo_args[@]}" || rc=$?
   if [ "$rc" -ne 0 ] && [ "$rc" -ne 2 ] && [ "$rc" -ne 3 ]; then
     echo "cargo mutants failed on ${members[*]} (exit $rc)" >&2
     exit "$rc"

@@ -473,6 +473,16 @@ mod tests {
                 worst = worst.max(e).max(t);
                 assert!(e < tol && t < tol, "seg {i} u {u}: {e:e} {t:e}");
                 assert!((a.curvature - b.curvature).abs() < 1e-15);
+                // The point says where it is: its segment, station and
+                // driving direction are those of the closed form's.
+                assert_eq!(
+                    (a.segment, a.direction),
+                    (b.segment, b.direction),
+                    "seg {i}"
+                );
+                assert!((a.station - b.station).abs() < 1e-12, "seg {i} u {u}");
+                // And the base that served it lies on that segment.
+                assert!(st.near.covers(i, u), "seg {i} u {u}");
             }
         }
         std::println!("worst stepped vs closed form: {worst:e}");
@@ -525,5 +535,383 @@ mod tests {
         );
         assert!(bf.terms <= MAX_TERMS, "{}", bf.terms);
         assert!(bf.hi - bf.u0 > 0.3, "{}", bf.hi - bf.u0);
+    }
+
+    /// A one-segment path of `seg`.
+    fn single(seg: Segment<f64>) -> Path<f64, 2> {
+        PathBuilder::<f64, 2>::new(Pose::new(1.0, 2.0, 0.3))
+            .unwrap()
+            .push(seg)
+            .unwrap()
+            .build()
+            .unwrap()
+    }
+
+    #[test]
+    fn reach_is_the_documented_one() {
+        // Module docs: a point is stepped "at most MAX_REACH metres away
+        // (CLOTHOID_REACH on a clothoid) ... and no farther than where the
+        // tangent has turned by MAX_TURN radians", the turn bounded by
+        // (|kappa| + |sigma| reach / 2) h on a clothoid. So on an arc the
+        // reach is min(8, 0.5 / |kappa|); on a clothoid min(2, 0.5 / (|kappa|
+        // + |sigma|)); on a line the whole segment.
+        // A clothoid's reach may be shorter still: "if MAX_TERMS
+        // coefficients do not reach the tolerance the reach is halved until
+        // they do" (there the bound is an upper one).
+        let cases: [(Segment<f64>, f64, f64); 6] = [
+            (Segment::line(100.0).unwrap(), 50.0, 100.0),
+            (Segment::arc(100.0, 0.05).unwrap(), 50.0, 8.0),
+            (Segment::arc(100.0, -0.0625).unwrap(), 50.0, 8.0),
+            (Segment::arc(100.0, 0.25).unwrap(), 50.0, 2.0),
+            // kappa 0.0625 at u = 50 (0.0 + 0.00125 * 50), sigma 0.00125.
+            (Segment::transition(100.0, 0.0, 0.125).unwrap(), 50.0, 2.0),
+            // kappa 0.5 at u = 50: 0.5 / (0.5 + 0.005) < 2.
+            (
+                Segment::transition(100.0, 0.0, 1.0).unwrap(),
+                50.0,
+                0.5 / (0.5 + 0.01),
+            ),
+        ];
+        for (seg, u, reach) in cases {
+            let path = single(seg);
+            let b = Base::make(&path, 0, u);
+            let len = path.segment_length(0);
+            let clothoid = seg.sigma() != 0.0;
+            let reach = if clothoid {
+                (b.hi - u).min(reach)
+            } else {
+                reach
+            };
+            assert!(reach > 0.0 && b.terms <= MAX_TERMS);
+            let (lo, hi) = ((u - reach).max(0.0), (u + reach).min(len));
+            assert!(
+                (b.lo - lo).abs() < 1e-12 && (b.hi - hi).abs() < 1e-12,
+                "{seg:?}: [{}, {}] vs [{lo}, {hi}]",
+                b.lo,
+                b.hi
+            );
+            // Within the reach, and at its edges: this base; beyond: not.
+            assert!(b.covers(0, lo) && b.covers(0, hi) && b.covers(0, u));
+            assert!(!b.covers(1, u), "another segment");
+            if hi < len {
+                assert!(!b.covers(0, hi + 1e-9));
+            }
+            if lo > 0.0 {
+                assert!(!b.covers(0, lo - 1e-9));
+            }
+            // The turn over the reach stays within MAX_TURN (0.5 rad).
+            let turn = |h: f64| (b.heading(u + h) - b.heading(u)).abs();
+            assert!(turn(hi - u) <= MAX_TURN + 1e-12 && turn(lo - u) <= MAX_TURN + 1e-12);
+        }
+        assert!(
+            !Base::<f64>::default().covers(0, 0.0),
+            "a default base covers nothing"
+        );
+    }
+
+    #[test]
+    fn points_within_a_base_are_stepped_beyond_it_re_anchored() {
+        // An arc of curvature 0.1 (reach 5 m): the near base made at the
+        // anchor serves every point up to 5 m; at 5 m + 1 nm a new base is
+        // made there (u0 = the point), not at the anchor.
+        let path = single(Segment::arc(40.0, 0.1).unwrap());
+        let mut st = Stepper::default();
+        for u in [0.0, 1.0, 4.0, 5.0] {
+            st.near_point(&path, 0, u);
+            assert_eq!((st.near.u0, st.near.valid), (0.0, true), "{u}");
+        }
+        let u = 5.0 + 1e-9;
+        st.near_point(&path, 0, u);
+        assert_eq!(st.near.u0, u);
+        // The far base serves the lookahead and leaves the near one; the
+        // near one is reused for a far point it covers.
+        let near = st.near;
+        st.far_point(&path, 0, 30.0);
+        assert_eq!((st.near, st.far.u0), (near, 30.0));
+        st.far_point(&path, 0, 6.0);
+        assert_eq!(st.far.u0, 30.0, "served by the near base");
+        st.other_point(&path, 0, 20.0);
+        assert_eq!((st.near, st.far.u0, st.spare.u0), (near, 30.0, 20.0));
+        // The heading where a base covers, none elsewhere.
+        assert!(st.heading(0, 12.0).is_none());
+        // Not wrapped from the base's heading (which atan2 gives in
+        // (-pi, pi]): equal to 0.3 + 0.1 u up to whole turns.
+        let h = st.heading(0, 31.0).unwrap();
+        let want = 0.3 + 0.1 * 31.0;
+        let turns = ((h - want) / core::f64::consts::TAU).round();
+        assert!(
+            (h - want - turns * core::f64::consts::TAU).abs() < 1e-12,
+            "{h} vs {want}"
+        );
+    }
+
+    #[test]
+    fn stepped_heading_matches_the_closed_form_on_a_clothoid() {
+        // theta(u) = theta0 + kappa0 u + sigma u^2 / 2 (definition of a
+        // clothoid: curvature linear in arc length).
+        let (k0, k1, len) = (-0.2, 0.3, 25.0);
+        let path = single(Segment::transition(len, k0, k1).unwrap());
+        let sigma = (k1 - k0) / len;
+        let mut st = Stepper::default();
+        for i in 0..=100 {
+            let u = len * f64::from(i) / 100.0;
+            let p = st.near_point(&path, 0, u);
+            let h = st.heading(0, u).unwrap();
+            let want = 0.3 + k0 * u + 0.5 * sigma * u * u;
+            assert!((h - want).abs() < 1e-12, "{u}: {h} vs {want}");
+            assert!(
+                (p.sin.atan2(p.cos) - libm::atan2(libm::sin(want), libm::cos(want))).abs() < 1e-11
+            );
+            assert!((p.curvature - (k0 + sigma * u)).abs() < 1e-15 && p.sharpness == sigma);
+            assert!((p.station - u).abs() < 1e-15);
+        }
+    }
+
+    #[test]
+    fn stepped_points_match_the_closed_form_in_f32() {
+        // Module docs: truncation below 2e-8 * 8 m = 1.6e-7 m in f32, plus
+        // the rounding of a few operations on coordinates of a few metres
+        // (f32 epsilon 1.2e-7 relative, four of them), against the closed
+        // form evaluated in f64 (crate::path::segment, checked against mpmath
+        // in tests/core_clothoid.rs).
+        let segs: [(f32, f32, f32); 4] = [
+            (30.0, 0.0, 0.0),
+            (12.0, 0.0, 0.4),
+            (9.0, 0.4, 0.4),
+            (20.0, 0.4, -0.2),
+        ];
+        let mut b32 = PathBuilder::<f32, 8>::new(Pose::new(3.0, -2.0, 0.7)).unwrap();
+        let mut b64 = PathBuilder::<f64, 8>::new(Pose::new(3.0, -2.0, 0.7)).unwrap();
+        for (len, k0, k1) in segs {
+            let s32 = if k0 == k1 {
+                Segment::arc(len, k0)
+            } else {
+                Segment::transition(len, k0, k1)
+            };
+            let s64 = if k0 == k1 {
+                Segment::arc(f64::from(len), f64::from(k0))
+            } else {
+                Segment::transition(f64::from(len), f64::from(k0), f64::from(k1))
+            };
+            b32.try_push(s32.unwrap()).unwrap();
+            b64.try_push(s64.unwrap()).unwrap();
+        }
+        let (p32, p64) = (b32.build().unwrap(), b64.build().unwrap());
+        let mut st = Stepper::<f32>::default();
+        for i in 0..p32.len() {
+            let len = p32.segment_length(i);
+            for k in 0..=200 {
+                let u = len * k as f32 / 200.0;
+                let a = st.near_point(&p32, i, u);
+                let b = p64.eval_in(i, f64::from(u));
+                let e = (f64::from(a.x) - b.x)
+                    .abs()
+                    .max((f64::from(a.y) - b.y).abs());
+                let t = (f64::from(a.cos) - b.cos)
+                    .abs()
+                    .max((f64::from(a.sin) - b.sin).abs());
+                let round = 4.0 * f64::from(f32::EPSILON) * (b.x.abs() + b.y.abs());
+                assert!(e < 1.6e-7 + round && t < 1e-6, "seg {i} u {u}: {e:e} {t:e}");
+            }
+        }
+    }
+
+    #[test]
+    fn reach_in_f32_and_where_the_first_base_goes() {
+        // f32 reaches as far as f64 on an arc (the documented rule does not
+        // depend on the type): min(8, 0.5 / 0.05) = 8 m.
+        let path = PathBuilder::<f32, 2>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::arc(40.0, 0.05).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let b = Base::make(&path, 0, 20.0);
+        assert_eq!((b.lo, b.hi), (12.0, 28.0));
+        // The first point within the anchor's reach is stepped from a base
+        // at the anchor (no evaluation: "at a segment's anchor"); one beyond
+        // it gets a base of its own.
+        let arc = single(Segment::arc(40.0, 0.1).unwrap());
+        for (u, u0) in [(3.0, 0.0), (5.0, 0.0), (7.0, 7.0)] {
+            let mut st = Stepper::default();
+            st.near_point(&arc, 0, u);
+            assert_eq!(st.near.u0, u0, "{u}");
+        }
+    }
+
+    /// Nodes and weights of the n-point Gauss-Legendre rule on [-1, 1]
+    /// (Abramowitz & Stegun 25.4.29), the nodes by Newton's method on the
+    /// Legendre polynomial from its three-term recurrence.
+    fn gauss_legendre(n: usize) -> std::vec::Vec<(f64, f64)> {
+        let mut out = std::vec::Vec::new();
+        for i in 1..=n {
+            let mut x = libm::cos(core::f64::consts::PI * (i as f64 - 0.25) / (n as f64 + 0.5));
+            let mut dp = 0.0;
+            for _ in 0..100 {
+                let (mut p0, mut p1) = (1.0, x);
+                for k in 2..=n {
+                    let k = k as f64;
+                    let p2 = ((2.0 * k - 1.0) * x * p1 - (k - 1.0) * p0) / k;
+                    p0 = p1;
+                    p1 = p2;
+                }
+                dp = n as f64 * (x * p1 - p0) / (x * x - 1.0);
+                let dx = p1 / dp;
+                x -= dx;
+                if dx.abs() < 1e-17 {
+                    break;
+                }
+            }
+            out.push((x, 2.0 / ((1.0 - x * x) * dp * dp)));
+        }
+        out
+    }
+
+    #[test]
+    fn series_step_matches_quadrature_of_the_definition() {
+        // From a base with curvature k and sharpness s the curve is
+        // x' = cos theta, y' = sin theta, theta = k h + s h^2 / 2 (in the
+        // base's frame): its displacement by 20-point Gauss-Legendre
+        // quadrature, exact here to the rounding of f64, against the series
+        // step. Module docs: truncation below twice the tolerance (1e-16)
+        // times the reach; the rest is the rounding of a dozen Horner steps
+        // on h (a few 1e-16 m per metre).
+        let gl = gauss_legendre(20);
+        let cases: [(Segment<f64>, f64); 6] = [
+            (Segment::arc(30.0, 0.05).unwrap(), 11.0),
+            (Segment::arc(30.0, -0.5).unwrap(), 3.0),
+            (Segment::transition(30.0, 0.0, 0.3).unwrap(), 0.0),
+            (Segment::transition(30.0, 0.3, -0.4).unwrap(), 17.0),
+            (Segment::transition(50.0, 5.0, -5.0).unwrap(), 25.0),
+            (Segment::transition(12.0, -0.8, 0.8).unwrap(), 6.0),
+        ];
+        for (seg, u0) in cases {
+            let path = single(seg);
+            let b = Base::make(&path, 0, u0);
+            let (k, sg) = (b.kappa, b.sigma);
+            let mut worst = 0.0f64;
+            for j in 0..=40 {
+                let u = b.lo + (b.hi - b.lo) * f64::from(j) / 40.0;
+                let h = u - u0;
+                let (mut x, mut y) = (0.0, 0.0);
+                for &(t, w) in &gl {
+                    let v = 0.5 * h * (t + 1.0);
+                    let th = k * v + 0.5 * sg * v * v;
+                    x += 0.5 * h * w * libm::cos(th);
+                    y += 0.5 * h * w * libm::sin(th);
+                }
+                let th = k * h + 0.5 * sg * h * h;
+                let (e, d) = b.series(h);
+                let err = (d.re - x).abs().max((d.im - y).abs());
+                let terr = (e.re - libm::cos(th))
+                    .abs()
+                    .max((e.im - libm::sin(th)).abs());
+                worst = worst.max(err);
+                let tol = 1e-15 * (1.0 + h.abs());
+                assert!(
+                    err < tol && terr < tol,
+                    "{seg:?} u0 {u0} h {h}: {err:e} {terr:e}"
+                );
+            }
+            std::println!("{seg:?}: worst series vs quadrature {worst:e}");
+        }
+    }
+
+    /// The number of coefficients the module docs' cut rule asks for at
+    /// reach `r`, or `None` beyond `MAX_TERMS`: on a clothoid the first `n`
+    /// where two consecutive majorant terms `m_n r^n` (with `(n + 1)
+    /// m_(n+1) = |k| m_n + |sigma| m_(n-1)`, `m_0 = 1`) are below the
+    /// tolerance together; on an arc the first `j` where the term
+    /// `(|k| r)^(2j + 2) / (2j + 3)!` of the sine's series is.
+    fn documented_terms(k: f64, sigma: f64, r: f64, tol: f64) -> Option<usize> {
+        if sigma == 0.0 {
+            let mut w = 1.0;
+            for j in 0..MAX_TERMS {
+                let n = 2.0 * j as f64;
+                w *= (k * r) * (k * r) / ((n + 2.0) * (n + 3.0));
+                if w <= tol {
+                    return Some(j + 1);
+                }
+            }
+            return None;
+        }
+        let (mut m_prev, mut m) = (0.0, 1.0);
+        for n in 0..MAX_TERMS {
+            let next = (k.abs() * r * m + sigma.abs() * r * r * m_prev) / (n as f64 + 1.0);
+            m_prev = m;
+            m = next;
+            if m + m_prev <= tol {
+                return Some(n + 1);
+            }
+        }
+        None
+    }
+
+    #[test]
+    fn terms_and_reach_follow_the_documented_cut_rule() {
+        // "the series is cut where two consecutive m_n r^n ... fall below the
+        // type's tolerance together"; "if MAX_TERMS coefficients do not
+        // reach the tolerance the reach is halved until they do". The reach
+        // before halving is the documented one (see reach_is_the_documented_one).
+        let cases: [(Segment<f64>, f64, f64); 7] = [
+            (Segment::arc(100.0, 0.05).unwrap(), 50.0, 8.0),
+            (Segment::arc(100.0, 0.25).unwrap(), 50.0, 2.0),
+            (Segment::arc(100.0, 3.0).unwrap(), 50.0, 0.5 / 3.0),
+            (Segment::transition(100.0, 0.0, 0.125).unwrap(), 50.0, 2.0),
+            (
+                Segment::transition(100.0, 0.0, 1.0).unwrap(),
+                50.0,
+                0.5 / 0.51,
+            ),
+            (
+                Segment::transition(50.0, 5.0, -5.0).unwrap(),
+                25.0,
+                0.5 / 0.2,
+            ),
+            (Segment::transition(30.0, 0.3, -0.4).unwrap(), 3.0, 2.0),
+        ];
+        for (seg, u, reach0) in cases {
+            let path = single(seg);
+            let b = Base::make(&path, 0, u);
+            let (k, sg) = (b.kappa, b.sigma);
+            // The documented turn bound, (|k| + |sigma| max / 2) r <= MAX_TURN.
+            let max = if sg == 0.0 { MAX_REACH } else { CLOTHOID_REACH };
+            let rate = k.abs() + sg.abs() * max / 2.0;
+            let mut r = if rate * max <= MAX_TURN {
+                max
+            } else {
+                MAX_TURN / rate
+            };
+            assert!(r <= reach0 + 1e-12, "{seg:?}: {r} vs {reach0}");
+            let mut want = None;
+            for _ in 0..REACH_HALVINGS {
+                want = documented_terms(k, sg, r, 1e-16);
+                if want.is_some() {
+                    break;
+                }
+                r *= 0.5;
+            }
+            assert_eq!(Some(b.terms), want, "{seg:?} at {u}");
+            assert!(
+                (b.hi - u - r).abs() < 1e-12 && (u - b.lo - r).abs() < 1e-12,
+                "{seg:?}: reach {} vs {r}",
+                b.hi - u
+            );
+        }
+        // f32: tolerance 1e-8.
+        let path = PathBuilder::<f32, 2>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::transition(40.0, 0.1, 0.5).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let b = Base::make(&path, 0, 20.0);
+        let want = documented_terms(
+            f64::from(b.kappa),
+            f64::from(b.sigma),
+            f64::from(b.hi - 20.0),
+            1e-8,
+        );
+        assert_eq!(Some(b.terms), want);
     }
 }
