@@ -1,0 +1,179 @@
+//! The Q32.32 backend's arithmetic and functions against libm's `f64`
+//! functions (the reference named at each check), and its saturation.
+//!
+//! An ulp of Q32.32 is 2^-32 (2.3e-10). The `f64` reference is exact to
+//! far below that for the magnitudes used (53 significant bits).
+
+#![cfg(feature = "fixed-point")]
+
+use kappaline::{Q32x32, Real};
+use proptest::prelude::*;
+
+const ULP: f64 = 1.0 / 4_294_967_296.0;
+
+fn q(v: f64) -> Q32x32 {
+    Q32x32::from_f64(v)
+}
+
+/// Distance in ulps between a fixed-point result and an `f64` reference.
+fn ulps(got: Q32x32, want: f64) -> f64 {
+    (got.to_f64() - want).abs() / ULP
+}
+
+#[test]
+fn conversion_rounds_to_nearest_and_is_exact_on_the_grid() {
+    // Values on the 2^-32 grid convert exactly both ways.
+    for v in [0.0, 1.0, -1.0, 0.5, 1234.5678901234, -2.0e9, ULP, -ULP] {
+        let g = (v / ULP).round() * ULP;
+        assert_eq!(q(g).to_f64(), g, "{v}");
+    }
+    // Rounding to nearest: 0.4 ulp down, 0.6 ulp up.
+    assert_eq!(q(0.4 * ULP).to_bits(), 0);
+    assert_eq!(q(0.6 * ULP).to_bits(), 1);
+    assert_eq!(q(-0.6 * ULP).to_bits(), -1);
+    assert_eq!(Q32x32::from_i32(-7).to_f64(), -7.0);
+    assert_eq!(Q32x32::from_u32(123_456).to_f64(), 123_456.0);
+}
+
+#[test]
+fn out_of_range_conversions_are_overflowed_never_wrapped() {
+    for v in [
+        f64::NAN,
+        f64::INFINITY,
+        f64::NEG_INFINITY,
+        2.2e9,
+        -2.2e9,
+        1e300,
+    ] {
+        let x = q(v);
+        assert!(!x.is_finite(), "{v} -> {x}");
+    }
+    assert!(q(2.2e9) > Q32x32::MAX && q(-2.2e9) < Q32x32::MIN);
+    // The finite range ends just below 2^31.
+    assert!(q(2_147_483_647.0).is_finite());
+    assert!(!q(2_147_483_648.0).is_finite());
+    assert!(!Q32x32::from_u32(u32::MAX).is_finite());
+    assert!(!Q32x32::from_i32(i32::MIN).is_finite());
+    assert_eq!(Q32x32::MAX.to_f64(), 2_147_483_648.0 - 2.0 * ULP);
+}
+
+#[test]
+fn every_operation_saturates_and_overflow_is_sticky() {
+    let big = Q32x32::MAX;
+    let one = Q32x32::ONE;
+    assert!(!(big + one).is_finite());
+    assert!(!(-big - one).is_finite());
+    assert!((-big - one) < Q32x32::MIN);
+    assert!(!(big * q(2.0)).is_finite());
+    assert!(!(q(65536.0) * q(65536.0)).is_finite());
+    assert!(!(q(-65536.0) * q(65536.0)).is_finite());
+    assert!((q(-65536.0) * q(65536.0)) < Q32x32::ZERO);
+    assert!(!(q(1e6) / q(1e-6)).is_finite());
+    // Division by zero.
+    assert!(!(one / Q32x32::ZERO).is_finite());
+    assert!(!(-one / Q32x32::ZERO).is_finite());
+    assert!(!(Q32x32::ZERO / Q32x32::ZERO).is_finite());
+    // Square root of a negative number (NaN in f64).
+    assert!(!(-one).sqrt().is_finite());
+    // Once overflowed, finite operands never bring a value back.
+    let o = big + one;
+    for x in [one, -one, -big, Q32x32::ZERO] {
+        assert!(!(o + x).is_finite());
+        assert!(!(o - x).is_finite());
+        assert!(!(o * x).is_finite());
+        assert!(!(o / q(3.0)).is_finite());
+        assert!(!(x / o).is_finite());
+    }
+    assert!(!o.sqrt().is_finite());
+    assert!(!o.sin_cos().0.is_finite() && !o.sin_cos().1.is_finite());
+    assert!(!o.atan2(one).is_finite() && !one.atan2(o).is_finite());
+    assert!(!o.floor().is_finite());
+    assert!(!(-o).is_finite() && !o.abs().is_finite());
+    assert!(o.to_f64().is_infinite());
+}
+
+#[test]
+fn functions_at_their_special_points() {
+    // libm::atan2 conventions: atan2(0, -1) = pi, atan2(0, 0) = 0.
+    assert!(ulps(Q32x32::ZERO.atan2(-Q32x32::ONE), core::f64::consts::PI) <= 1.0);
+    assert_eq!(Q32x32::ZERO.atan2(Q32x32::ZERO), Q32x32::ZERO);
+    assert_eq!(Q32x32::ZERO.sqrt(), Q32x32::ZERO);
+    assert_eq!(q(4.0).sqrt(), q(2.0));
+    assert_eq!(q(-2.5).floor(), q(-3.0));
+    assert_eq!(q(2.5).floor(), q(2.0));
+    assert_eq!(Q32x32::EPSILON.to_f64(), ULP);
+    assert!(ulps(Q32x32::PI, core::f64::consts::PI) <= 0.5);
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 4000, ..ProptestConfig::default() })]
+
+    /// Sum, difference (exact), product and quotient (within 1 ulp) against
+    /// the same operation in f64 on the converted operands.
+    #[test]
+    fn four_operations_against_f64(a in -1000.0f64..1000.0, b in -1000.0f64..1000.0) {
+        let (x, y) = (q(a), q(b));
+        let (fa, fb) = (x.to_f64(), y.to_f64());
+        prop_assert_eq!((x + y).to_f64(), fa + fb);
+        prop_assert_eq!((x - y).to_f64(), fa - fb);
+        // f64's own rounding of the product is below 1e-16 * 1e6 = 0.5 ulp.
+        prop_assert!(ulps(x * y, fa * fb) <= 1.0);
+        if fb.abs() > 1e-3 && (fa / fb).abs() < 1e9 {
+            prop_assert!(ulps(x / y, fa / fb) <= 1.0);
+        }
+    }
+
+    /// Square root against libm::sqrt, within 0.5 ulp plus f64's rounding.
+    #[test]
+    fn sqrt_against_libm(a in 0.0f64..2.0e9) {
+        let x = q(a);
+        prop_assert!(ulps(x.sqrt(), libm::sqrt(x.to_f64())) <= 0.51);
+    }
+
+    /// Square root of small values (the fraction bits only).
+    #[test]
+    fn sqrt_small_against_libm(a in 0.0f64..1e-3) {
+        let x = q(a);
+        prop_assert!(ulps(x.sqrt(), libm::sqrt(x.to_f64())) <= 0.51);
+    }
+
+    /// sin_cos against libm::sin and libm::cos over +-1000 rad, within 2 ulp.
+    #[test]
+    fn sin_cos_against_libm(a in -1000.0f64..1000.0) {
+        let x = q(a);
+        let (s, c) = x.sin_cos();
+        let v = x.to_f64();
+        prop_assert!(ulps(s, libm::sin(v)) <= 2.0, "sin {} {}", v, ulps(s, libm::sin(v)));
+        prop_assert!(ulps(c, libm::cos(v)) <= 2.0, "cos {} {}", v, ulps(c, libm::cos(v)));
+    }
+
+    /// sin_cos near zero and near the quadrant joints.
+    #[test]
+    fn sin_cos_small_against_libm(a in -4.0f64..4.0) {
+        let x = q(a);
+        let (s, c) = x.sin_cos();
+        let v = x.to_f64();
+        prop_assert!(ulps(s, libm::sin(v)) <= 2.0);
+        prop_assert!(ulps(c, libm::cos(v)) <= 2.0);
+    }
+
+    /// atan2 against libm::atan2 over all four quadrants and magnitudes
+    /// from 1e-6 to 1e6, within 2 ulp.
+    #[test]
+    fn atan2_against_libm(
+        r in -6.0f64..6.0,
+        t in -3.14159f64..3.14159,
+    ) {
+        let m = libm::pow(10.0, r);
+        let (y, x) = (q(m * libm::sin(t)), q(m * libm::cos(t)));
+        let want = libm::atan2(y.to_f64(), x.to_f64());
+        prop_assert!(ulps(y.atan2(x), want) <= 2.0, "{} {}", t, ulps(y.atan2(x), want));
+    }
+
+    /// floor against libm::floor, exact.
+    #[test]
+    fn floor_against_libm(a in -2.0e9f64..2.0e9) {
+        let x = q(a);
+        prop_assert_eq!(x.floor().to_f64(), libm::floor(x.to_f64()));
+    }
+}
