@@ -8,7 +8,8 @@
 //! | quantity | unit | range without saturation | resolution |
 //! |---|---|---|---|
 //! | any value | - | `±(2^31 - 2^-31)` (about ±2.1e9) | `2^-32` (2.3e-10) |
-//! | position, station, distance | m | the plane of ±32 km about the path origin (squared distances in the projection stay below 2^31 m²) | 0.23 nm |
+//! | path anchor, station | m | ±10 km ([`Q32x32::PLANE`]; a path beyond it is refused with `PathError::OutOfRange`) | 0.23 nm |
+//! | position given to the tracker | m | ±20 km (beyond: `TrackError::OutOfRange`), so squared distances stay below 2^31 m² | 0.23 nm |
 //! | heading, angle | rad | `(-pi, pi]` after wrapping | 2.3e-10 rad |
 //! | curvature | 1/m | ±[`Q32x32::MAX_CURVATURE`] = ±100 (1 cm radius) | 2.3e-10 (1e-5 1/m is held to 2.3e-5 relative) |
 //! | sharpness | 1/m² | ±[`Q32x32::MAX_SHARPNESS`] = ±1e4 | 2.3e-10 |
@@ -423,9 +424,14 @@ impl Real for Q32x32 {
     /// 1 cm; `sigma u` is bounded by the end curvatures, and `sigma u^2`
     /// is formed as `(sigma u) u`.
     const MAX_SHARPNESS: Self = Self(10_000 * ONE_RAW);
+    /// 10 km: path anchors within ±10 km and positions within ±20 km keep
+    /// the squared distance `dx^2 + dy^2 <= 2 (3e4)^2 = 1.8e9` below 2^31.
+    const PLANE: Self = Self(10_000 * ONE_RAW);
 
     /// Rounds to nearest; NaN, infinities and values beyond the range give
-    /// the overflowed value (positive for NaN).
+    /// the overflowed value (positive for NaN). Constant arguments fold at
+    /// compile time.
+    #[inline]
     fn from_f64(v: f64) -> Self {
         let scaled = v * (ONE_RAW as f64);
         // 2^63 is exactly representable; the finite range ends below it.
