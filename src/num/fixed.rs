@@ -148,9 +148,11 @@ impl Q32x32 {
     /// Smallest finite value, `-(2^31 - 2^-31)`.
     pub const MIN: Self = Self(UNDER + 1);
 
+    /// Neither overflowed value: `raw - (i64::MIN + 1)`, as unsigned, is
+    /// below `2^64 - 2` (one subtraction and one comparison).
     #[inline]
     const fn finite(self) -> bool {
-        self.0 != OVER && self.0 != UNDER
+        (self.0.wrapping_add(i64::MAX) as u64) < u64::MAX - 1
     }
 }
 
@@ -178,9 +180,16 @@ const fn overflowed(negative: bool) -> Q32x32 {
 
 /// `(a * b + 2^31) >> 32` for raw values, from four 32 × 32 → 64-bit partial
 /// products (one hardware multiply each where the core has `umull`; a short
-/// routine on cores with only `muls`), saturating.
-#[inline]
+/// routine on cores with only `muls`), saturating. Not inlined: the
+/// product is too long to copy into every expression of the algorithms
+/// (flash), and a call costs a few instructions against its tens.
+#[inline(never)]
 fn mul_raw(a: i64, b: i64) -> Q32x32 {
+    let (a, b) = (Q32x32(a), Q32x32(b));
+    if !(a.finite() && b.finite()) {
+        return overflowed((a.0 < 0) != (b.0 < 0));
+    }
+    let (a, b) = (a.0, b.0);
     let neg = (a < 0) != (b < 0);
     let (ua, ub) = (a.unsigned_abs(), b.unsigned_abs());
     let (ah, al) = (ua >> 32, ua & 0xffff_ffff);
@@ -206,14 +215,26 @@ impl Add for Q32x32 {
     type Output = Self;
     #[inline]
     fn add(self, o: Self) -> Self {
-        if !self.finite() {
-            return self;
+        let (r, carry) = self.0.overflowing_add(o.0);
+        let r = Self(r);
+        if carry || !(self.finite() && o.finite() && r.finite()) {
+            return add_slow(self, o);
         }
-        if !o.finite() {
-            return o;
-        }
-        saturate(self.0 as i128 + o.0 as i128)
+        r
     }
+}
+
+/// The sum when an operand is overflowed or the result leaves the range.
+#[cold]
+#[inline(never)]
+fn add_slow(a: Q32x32, b: Q32x32) -> Q32x32 {
+    if !a.finite() {
+        return a;
+    }
+    if !b.finite() {
+        return b;
+    }
+    saturate(a.0 as i128 + b.0 as i128)
 }
 
 impl Sub for Q32x32 {
@@ -241,9 +262,6 @@ impl Mul for Q32x32 {
     type Output = Self;
     #[inline]
     fn mul(self, o: Self) -> Self {
-        if !(self.finite() && o.finite()) {
-            return overflowed((self.0 < 0) != (o.0 < 0));
-        }
         mul_raw(self.0, o.0)
     }
 }
@@ -252,7 +270,7 @@ impl Div for Q32x32 {
     type Output = Self;
     /// Rounded to nearest; division by zero gives the overflowed value of
     /// the dividend's sign (positive for `0 / 0`).
-    #[inline]
+    #[inline(never)]
     fn div(self, o: Self) -> Self {
         if !(self.finite() && o.finite()) || o.0 == 0 {
             return overflowed((self.0 < 0) != (o.0 < 0));
@@ -330,6 +348,7 @@ impl fmt::Debug for Q32x32 {
 
 /// Digit-by-digit square root of `raw * 2^32` (two bits per step),
 /// rounded to nearest. `raw > 0`.
+#[inline(never)]
 fn isqrt_scaled(raw: u64) -> u64 {
     // The radicand is raw followed by 32 zero bits; its bit pairs are taken
     // from the top, skipping leading zero pairs.
@@ -362,6 +381,7 @@ fn isqrt_scaled(raw: u64) -> u64 {
 }
 
 /// CORDIC rotation: `(sin z, cos z)` in Q3.60 for `|z| <= pi/4` in Q3.60.
+#[inline(never)]
 fn cordic_rotate(mut z: i64) -> (i64, i64) {
     let (mut x, mut y) = (CORDIC_K, 0i64);
     for (i, &a) in ATAN_TABLE.iter().enumerate() {
@@ -381,6 +401,7 @@ fn cordic_rotate(mut z: i64) -> (i64, i64) {
 
 /// CORDIC vectoring: `atan(y / x)` in Q3.60 for `x, y >= 0`, not both 0,
 /// each below 2^61.
+#[inline(never)]
 fn cordic_vector(mut x: i64, mut y: i64) -> i64 {
     let mut z = 0i64;
     for (i, &a) in ATAN_TABLE.iter().enumerate() {
@@ -498,6 +519,7 @@ impl Real for Q32x32 {
     }
     /// Range reduction to `[-pi/4, pi/4]` with `pi/2` in Q3.60, then
     /// CORDIC rotation. Overflowed input gives overflowed output.
+    #[inline(never)]
     fn sin_cos(self) -> (Self, Self) {
         if !self.finite() {
             return (Self(OVER), Self(OVER));
@@ -520,6 +542,7 @@ impl Real for Q32x32 {
     /// CORDIC vectoring on `(|x|, |y|)` scaled to 60 bits, then the
     /// quadrant; `atan2(0, 0) = 0`, overflowed input gives overflowed
     /// output.
+    #[inline(never)]
     fn atan2(self, x: Self) -> Self {
         if !(self.finite() && x.finite()) {
             return Self(OVER);
