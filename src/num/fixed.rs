@@ -45,10 +45,10 @@
 //! * `floor`: clearing the fraction bits (exact).
 //!
 //! # Cost
-//! A multiply is one 64 × 64 → 128-bit product and a shift; on a core with
-//! only a 32 × 32 → 32-bit multiplier (Cortex-M0) it is built from four
-//! 32 × 32 → 64-bit partial products. `sin_cos` and `atan2` are 36 shift-and-add
-//! steps with no multiply.
+//! A multiply is four 32 × 32 → 64-bit partial products (one `umull` each on Cortex-M3/M4; four `muls` each on
+//! Cortex-M0, which has no 64-bit product). A division is one 64-bit
+//! division and 32 steps of long division. `sin_cos` and `atan2` are 36
+//! shift-and-add steps with no multiply.
 
 use core::cmp::Ordering;
 use core::fmt;
@@ -178,42 +178,78 @@ const fn overflowed(negative: bool) -> Q32x32 {
     }
 }
 
-/// `(a * b + 2^31) >> 32` for raw values, from four 32 × 32 → 64-bit partial
-/// products (one hardware multiply each where the core has `umull`; a short
-/// routine on cores with only `muls`), saturating. Not inlined: the
+/// `a * b` for 32-bit operands, as 64 bits.
+///
+/// ARMv6-M (Cortex-M0/M0+, recognised as the Arm cores without 32-bit
+/// compare-and-swap) has only `muls`, 32 × 32 → 32 bits: there a 64-bit
+/// product is a call to the runtime's general 64 × 64 multiply. Four 16-bit
+/// partial products in `muls` are shorter. Elsewhere one `umull`.
+#[inline(always)]
+fn mul_wide(a: u32, b: u32) -> u64 {
+    #[cfg(all(target_arch = "arm", not(target_has_atomic = "32")))]
+    {
+        mul_halves(a, b)
+    }
+    #[cfg(not(all(target_arch = "arm", not(target_has_atomic = "32"))))]
+    {
+        a as u64 * b as u64
+    }
+}
+
+/// `a * b` from four 16 × 16 → 32-bit products (every partial product and
+/// sum fits: `(2^16 - 1)^2 < 2^32`, the middle sum is below 2^33).
+#[inline(always)]
+#[cfg_attr(
+    not(all(target_arch = "arm", not(target_has_atomic = "32"))),
+    allow(dead_code)
+)]
+fn mul_halves(a: u32, b: u32) -> u64 {
+    let (a1, a0) = (a >> 16, a & 0xffff);
+    let (b1, b0) = (b >> 16, b & 0xffff);
+    let mid = (a0 * b1) as u64 + (a1 * b0) as u64;
+    (((a1 * b1) as u64) << 32) + (mid << 16) + (a0 * b0) as u64
+}
+
+/// `(a * b + 2^31) >> 32` for raw values (rounded to nearest, ties away
+/// from zero), saturating. Magnitudes are split into 32-bit halves:
+/// `|a| |b| = ah bh 2^64 + (ah bl + al bh) 2^32 + al bl`, four 32 × 32 → 64
+/// products and no 128-bit arithmetic. Not inlined: the
 /// product is too long to copy into every expression of the algorithms
 /// (flash), and a call costs a few instructions against its tens.
 #[inline(never)]
 fn mul_raw(a: i64, b: i64) -> Q32x32 {
-    let (a, b) = (Q32x32(a), Q32x32(b));
-    if !(a.finite() && b.finite()) {
-        return overflowed((a.0 < 0) != (b.0 < 0));
-    }
-    let (a, b) = (a.0, b.0);
+    let (qa, qb) = (Q32x32(a), Q32x32(b));
     let neg = (a < 0) != (b < 0);
+    if !(qa.finite() && qb.finite()) {
+        return overflowed(neg);
+    }
     let (ua, ub) = (a.unsigned_abs(), b.unsigned_abs());
-    let (ah, al) = (ua >> 32, ua & 0xffff_ffff);
-    let (bh, bl) = (ub >> 32, ub & 0xffff_ffff);
-    // |a|, |b| < 2^63, so ah, bh < 2^31 and every partial product < 2^63.
-    let hh = ah * bh;
+    let (ah, al) = ((ua >> 32) as u32, ua as u32);
+    let (bh, bl) = ((ub >> 32) as u32, ub as u32);
+    // The integer part: ah bh must stay below 2^31.
+    let hh = mul_wide(ah, bh);
     if hh >= 1 << 31 {
         return overflowed(neg);
     }
-    let low = al * bl;
-    // The middle terms and the rounded top of the low one, in 128 bits only
-    // as a sum of three values below 2^64 (no wide multiply).
-    let mid = (ah * bl) as u128 + (al * bh) as u128 + ((low >> 32) + ((low >> 31) & 1)) as u128;
-    let mag = ((hh as u128) << 32) + mid;
-    if mag >= OVER as u128 {
-        return overflowed(neg);
+    // The low product's top half, rounded on its bit 31.
+    let low = mul_wide(al, bl);
+    let low = (low >> 32) + ((low >> 31) & 1);
+    let mid = mul_wide(ah, bl)
+        .checked_add(mul_wide(al, bh))
+        .and_then(|m| m.checked_add(low));
+    let mag = mid.and_then(|m| m.checked_add(hh << 32));
+    match mag {
+        Some(m) if m < OVER as u64 => {
+            let m = m as i64;
+            Q32x32(if neg { -m } else { m })
+        }
+        _ => overflowed(neg),
     }
-    let m = mag as i64;
-    Q32x32(if neg { -m } else { m })
 }
 
 impl Add for Q32x32 {
     type Output = Self;
-    #[inline]
+    #[inline(always)]
     fn add(self, o: Self) -> Self {
         let (r, carry) = self.0.overflowing_add(o.0);
         let r = Self(r);
@@ -239,15 +275,20 @@ fn add_slow(a: Q32x32, b: Q32x32) -> Q32x32 {
 
 impl Sub for Q32x32 {
     type Output = Self;
-    #[inline]
+    #[inline(always)]
     fn sub(self, o: Self) -> Self {
-        self + (-o)
+        let (r, borrow) = self.0.overflowing_sub(o.0);
+        let r = Self(r);
+        if borrow || !(self.finite() && o.finite() && r.finite()) {
+            return add_slow(self, -o);
+        }
+        r
     }
 }
 
 impl Neg for Q32x32 {
     type Output = Self;
-    #[inline]
+    #[inline(always)]
     fn neg(self) -> Self {
         // The finite range is symmetric; the two overflowed values swap.
         match self.0 {
@@ -260,7 +301,7 @@ impl Neg for Q32x32 {
 
 impl Mul for Q32x32 {
     type Output = Self;
-    #[inline]
+    #[inline(always)]
     fn mul(self, o: Self) -> Self {
         mul_raw(self.0, o.0)
     }
@@ -275,21 +316,35 @@ impl Div for Q32x32 {
         if !(self.finite() && o.finite()) || o.0 == 0 {
             return overflowed((self.0 < 0) != (o.0 < 0));
         }
-        let n = (self.0 as i128) << 32;
-        let d = o.0 as i128;
-        let q = n / d;
-        let r = n - q * d;
-        // Round half away from zero: |2 r| >= |d|.
-        let q = if 2 * r.unsigned_abs() >= d.unsigned_abs() {
-            if (n < 0) != (d < 0) {
-                q - 1
-            } else {
-                q + 1
+        let neg = (self.0 < 0) != (o.0 < 0);
+        let (n, d) = (self.0.unsigned_abs(), o.0.unsigned_abs());
+        // Integer part in one 64-bit division, then the 32 fraction bits by
+        // restoring long division (shift, compare, subtract): no 128-bit
+        // division, which is a long runtime routine on 32-bit cores.
+        let int = n / d;
+        if int >= 1 << 31 {
+            return overflowed(neg);
+        }
+        let mut r = n - int * d;
+        let mut q = int;
+        for _ in 0..32 {
+            // r < d < 2^63: the shift does not overflow.
+            r <<= 1;
+            q <<= 1;
+            if r >= d {
+                r -= d;
+                q |= 1;
             }
-        } else {
-            q
-        };
-        saturate(q)
+        }
+        // Round half away from zero: 2 r >= d (2 r < 2^64).
+        if 2 * r >= d {
+            q += 1;
+        }
+        if q >= OVER as u64 {
+            return overflowed(neg);
+        }
+        let q = q as i64;
+        Q32x32(if neg { -q } else { q })
     }
 }
 
@@ -351,18 +406,17 @@ impl fmt::Debug for Q32x32 {
 #[inline(never)]
 fn isqrt_scaled(raw: u64) -> u64 {
     // The radicand is raw followed by 32 zero bits; its bit pairs are taken
-    // from the top, skipping leading zero pairs.
-    let pairs = (64 - raw.leading_zeros()).div_ceil(2) + 16;
+    // from the top (constant shifts of a moving copy), after skipping the
+    // leading zero pairs.
+    let lz = raw.leading_zeros() & !1;
+    let mut src = raw << lz;
+    let pairs = (64 - lz) / 2 + 16;
     let mut rem: u64 = 0;
     let mut root: u64 = 0;
-    for k in (0..pairs).rev() {
-        let shift = 2 * k;
-        let two = if shift >= 32 {
-            (raw >> (shift - 32)) & 3
-        } else {
-            0
-        };
-        // rem < 2 root + 1 <= 2^50 before the shift: no overflow.
+    for _ in 0..pairs {
+        let two = src >> 62;
+        src <<= 2;
+        // rem <= 2 root < 2^49 before the shift: no overflow.
         rem = (rem << 2) | two;
         let trial = (root << 2) | 1;
         if rem >= trial {
@@ -449,26 +503,28 @@ impl Real for Q32x32 {
     /// the squared distance `dx^2 + dy^2 <= 2 (3e4)^2 = 1.8e9` below 2^31.
     const PLANE: Self = Self(10_000 * ONE_RAW);
 
-    /// Rounds to nearest; NaN, infinities and values beyond the range give
-    /// the overflowed value (positive for NaN). Constant arguments fold at
-    /// compile time.
-    #[inline]
+    /// Rounds to nearest (ties away from zero); NaN, infinities and values
+    /// beyond the range give the overflowed value (positive for NaN).
+    /// Always inlined and free of calls, so the constants the algorithms
+    /// write as `c(1e-9)` fold at compile time instead of costing a
+    /// soft-float conversion per use.
+    #[inline(always)]
     fn from_f64(v: f64) -> Self {
-        let scaled = v * (ONE_RAW as f64);
         // 2^63 is exactly representable; the finite range ends below it.
-        const LIMIT: f64 = 9_223_372_036_854_775_808.0;
+        const LIMIT: f64 = 9_223_372_036_854_774_784.0; // 2^63 - 1024
+        let scaled = v * (ONE_RAW as f64);
         if scaled.is_nan() {
             return Self(OVER);
         }
-        let r = libm::round(scaled);
-        if r >= LIMIT - 1024.0 {
-            // Within an f64 ulp of 2^63: beyond i64::MAX - 1 after rounding.
+        if scaled >= LIMIT {
             return Self(OVER);
         }
-        if r <= -(LIMIT - 1024.0) {
+        if scaled <= -LIMIT {
             return Self(UNDER);
         }
-        Self(r as i64)
+        // `as` truncates towards zero; |scaled| < 2^63 - 1024 fits.
+        let half = if scaled < 0.0 { -0.5 } else { 0.5 };
+        Self((scaled + half) as i64)
     }
     /// Exact below 2^21 in magnitude (53 significant bits); the overflowed
     /// values give `±inf`.
@@ -581,5 +637,30 @@ impl Real for Q32x32 {
     #[inline]
     fn is_finite(self) -> bool {
         self.finite()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The Cortex-M0 product from 16-bit halves against the host's 64-bit
+    /// multiply, at the corners and on a pseudo-random sweep (xorshift32).
+    #[test]
+    fn halves_product_equals_the_wide_product() {
+        let corners = [0u32, 1, 0xffff, 0x1_0000, 0x7fff_ffff, 0x8000_0000, u32::MAX];
+        for &a in &corners {
+            for &b in &corners {
+                assert_eq!(mul_halves(a, b), a as u64 * b as u64, "{a} {b}");
+            }
+        }
+        let mut x = 0x9e37_79b9u32;
+        for _ in 0..100_000 {
+            x ^= x << 13;
+            x ^= x >> 17;
+            x ^= x << 5;
+            let y = x.rotate_left(11) ^ 0x5bd1_e995;
+            assert_eq!(mul_halves(x, y), x as u64 * y as u64);
+        }
     }
 }
