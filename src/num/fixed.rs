@@ -226,25 +226,35 @@ fn mul_raw(a: i64, b: i64) -> Q32x32 {
     let (ua, ub) = (a.unsigned_abs(), b.unsigned_abs());
     let (ah, al) = ((ua >> 32) as u32, ua as u32);
     let (bh, bl) = ((ub >> 32) as u32, ub as u32);
-    // The integer part: ah bh must stay below 2^31.
-    let hh = mul_wide(ah, bh);
-    if hh >= 1 << 31 {
+    // The low product's top half, rounded on its bit 31; then the other
+    // partial products, each only when its high half is not zero (values
+    // below 1 in magnitude, such as unit-vector components, curvatures and
+    // small angles, need one or two of the four).
+    let low = mul_wide(al, bl);
+    let mut acc = (low >> 32) + ((low >> 31) & 1);
+    if bh != 0 {
+        // al bh < 2^63 and acc < 2^33: no overflow.
+        acc += mul_wide(al, bh);
+    }
+    if ah != 0 {
+        let Some(m) = acc.checked_add(mul_wide(ah, bl)) else {
+            return overflowed(neg);
+        };
+        acc = m;
+        if bh != 0 {
+            // The integer part ah bh must stay below 2^31.
+            let hh = mul_wide(ah, bh);
+            let Some(m) = (hh < 1 << 31).then(|| acc.checked_add(hh << 32)).flatten() else {
+                return overflowed(neg);
+            };
+            acc = m;
+        }
+    }
+    if acc >= OVER as u64 {
         return overflowed(neg);
     }
-    // The low product's top half, rounded on its bit 31.
-    let low = mul_wide(al, bl);
-    let low = (low >> 32) + ((low >> 31) & 1);
-    let mid = mul_wide(ah, bl)
-        .checked_add(mul_wide(al, bh))
-        .and_then(|m| m.checked_add(low));
-    let mag = mid.and_then(|m| m.checked_add(hh << 32));
-    match mag {
-        Some(m) if m < OVER as u64 => {
-            let m = m as i64;
-            Q32x32(if neg { -m } else { m })
-        }
-        _ => overflowed(neg),
-    }
+    let m = acc as i64;
+    Q32x32(if neg { -m } else { m })
 }
 
 impl Add for Q32x32 {
@@ -434,42 +444,94 @@ fn isqrt_scaled(raw: u64) -> u64 {
     }
 }
 
+/// Calls `$step!(i)` for `i = 0..36`, unrolled, so every CORDIC shift is by
+/// a constant (a 64-bit shift by a variable amount is a runtime call on
+/// Cortex-M0).
+macro_rules! each_cordic_step {
+    ($step:ident) => {
+        $step!(0);
+        $step!(1);
+        $step!(2);
+        $step!(3);
+        $step!(4);
+        $step!(5);
+        $step!(6);
+        $step!(7);
+        $step!(8);
+        $step!(9);
+        $step!(10);
+        $step!(11);
+        $step!(12);
+        $step!(13);
+        $step!(14);
+        $step!(15);
+        $step!(16);
+        $step!(17);
+        $step!(18);
+        $step!(19);
+        $step!(20);
+        $step!(21);
+        $step!(22);
+        $step!(23);
+        $step!(24);
+        $step!(25);
+        $step!(26);
+        $step!(27);
+        $step!(28);
+        $step!(29);
+        $step!(30);
+        $step!(31);
+        $step!(32);
+        $step!(33);
+        $step!(34);
+        $step!(35);
+    };
+}
+
 /// CORDIC rotation: `(sin z, cos z)` in Q3.60 for `|z| <= pi/4` in Q3.60.
 #[inline(never)]
+#[rustfmt::skip]
 fn cordic_rotate(mut z: i64) -> (i64, i64) {
     let (mut x, mut y) = (CORDIC_K, 0i64);
-    for (i, &a) in ATAN_TABLE.iter().enumerate() {
-        let (dx, dy) = (y >> i, x >> i);
-        if z >= 0 {
-            x -= dx;
-            y += dy;
-            z -= a;
-        } else {
-            x += dx;
-            y -= dy;
-            z += a;
-        }
+    macro_rules! step {
+        ($i:expr) => {
+            let (dx, dy) = (y >> $i, x >> $i);
+            if z >= 0 {
+                x -= dx;
+                y += dy;
+                z -= ATAN_TABLE[$i];
+            } else {
+                x += dx;
+                y -= dy;
+                z += ATAN_TABLE[$i];
+            }
+        };
     }
+    each_cordic_step!(step);
     (y, x)
 }
 
 /// CORDIC vectoring: `atan(y / x)` in Q3.60 for `x, y >= 0`, not both 0,
 /// each below 2^61.
 #[inline(never)]
+#[rustfmt::skip]
 fn cordic_vector(mut x: i64, mut y: i64) -> i64 {
     let mut z = 0i64;
-    for (i, &a) in ATAN_TABLE.iter().enumerate() {
-        let (dx, dy) = (y >> i, x >> i);
-        if y > 0 {
-            x += dx;
-            y -= dy;
-            z += a;
-        } else {
-            x -= dx;
-            y += dy;
-            z -= a;
-        }
+    macro_rules! step {
+        ($i:expr) => {
+            let (dx, dy) = (y >> $i, x >> $i);
+            if y > 0 {
+                x += dx;
+                y -= dy;
+                z += ATAN_TABLE[$i];
+            } else {
+                x -= dx;
+                y += dy;
+                z -= ATAN_TABLE[$i];
+            }
+        };
     }
+    each_cordic_step!(step);
     z
 }
 
@@ -648,7 +710,15 @@ mod tests {
     /// multiply, at the corners and on a pseudo-random sweep (xorshift32).
     #[test]
     fn halves_product_equals_the_wide_product() {
-        let corners = [0u32, 1, 0xffff, 0x1_0000, 0x7fff_ffff, 0x8000_0000, u32::MAX];
+        let corners = [
+            0u32,
+            1,
+            0xffff,
+            0x1_0000,
+            0x7fff_ffff,
+            0x8000_0000,
+            u32::MAX,
+        ];
         for &a in &corners {
             for &b in &corners {
                 assert_eq!(mul_halves(a, b), a as u64 * b as u64, "{a} {b}");
