@@ -162,7 +162,7 @@ proptest! {
     #[test]
     fn atan2_against_libm(
         r in -6.0f64..6.0,
-        t in -3.14159f64..3.14159,
+        t in -core::f64::consts::PI..core::f64::consts::PI,
     ) {
         let m = libm::pow(10.0, r);
         let (y, x) = (q(m * libm::sin(t)), q(m * libm::cos(t)));

@@ -491,6 +491,8 @@ macro_rules! each_cordic_step {
 /// CORDIC rotation: `(sin z, cos z)` in Q3.60 for `|z| <= pi/4` in Q3.60.
 #[inline(never)]
 #[rustfmt::skip]
+// The last step's update of the angle is not read (unrolled loop).
+#[allow(unused_assignments)]
 fn cordic_rotate(mut z: i64) -> (i64, i64) {
     let (mut x, mut y) = (CORDIC_K, 0i64);
     macro_rules! step {
@@ -515,6 +517,8 @@ fn cordic_rotate(mut z: i64) -> (i64, i64) {
 /// each below 2^61.
 #[inline(never)]
 #[rustfmt::skip]
+// The last step's update of x and y is not read (unrolled loop).
+#[allow(unused_assignments)]
 fn cordic_vector(mut x: i64, mut y: i64) -> i64 {
     let mut z = 0i64;
     macro_rules! step {
