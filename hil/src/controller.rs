@@ -400,5 +400,6 @@ pub fn firmware_for(s: &Scenario) -> anyhow::Result<Box<dyn Firmware + Send>> {
     match s.spec.controller.precision {
         Precision::F32 => boxed::<f32>(s),
         Precision::F64 => boxed::<f64>(s),
+        Precision::Q32 => boxed::<kappaline::Q32x32>(s),
     }
 }
