@@ -8,7 +8,7 @@
 //! | quantity | unit | range without saturation | resolution |
 //! |---|---|---|---|
 //! | any value | - | `±(2^31 - 2^-31)` (about ±2.1e9) | `2^-32` (2.3e-10) |
-//! | path anchor, station | m | ±10 km ([`Q32x32::PLANE`]; a path beyond it is refused with `PathError::OutOfRange`) | 0.23 nm |
+//! | path anchor, station (so also path and segment length) | m | ±10 km ([`Q32x32::PLANE`]; a path beyond it is refused with `PathError::OutOfRange`) | 0.23 nm |
 //! | position given to the tracker | m | ±20 km (beyond: `TrackError::OutOfRange`), so squared distances stay below 2^31 m² | 0.23 nm |
 //! | heading, angle | rad | `(-pi, pi]` after wrapping | 2.3e-10 rad |
 //! | curvature | 1/m | ±[`Q32x32::MAX_CURVATURE`] = ±100 (1 cm radius) | 2.3e-10 (1e-5 1/m is held to 2.3e-5 relative) |
@@ -22,9 +22,11 @@
 //! them, and [`Real::is_finite`] is `false` for them. So an overflow
 //! propagates like an `f32` NaN or infinity and is caught by the same
 //! `is_finite` checks at the public entry points, which turn it into the
-//! existing typed errors. Nothing wraps and nothing panics (the plain
-//! operators of `i64` and of fixed-point crates panic in debug builds and
-//! wrap in release builds; none is used here).
+//! existing typed errors. Nothing wraps and nothing panics: the plain
+//! operators of `i64` panic on overflow in debug builds and wrap in release
+//! builds, so they are used only inside the operations, on values whose
+//! bounds are stated beside them (a wider type, `checked_*` or a range
+//! proven by the format).
 //! [`Real::from_f64`] gives the overflowed value for NaN, infinities and
 //! anything beyond the finite range.
 //!
@@ -554,12 +556,11 @@ impl Real for Q32x32 {
     const PI: Self = Self(13_493_037_705);
     /// One ulp, `2^-32`.
     const EPSILON: Self = Self(1);
-    /// A radius of 1 cm. With segments up to [`crate::MAX_SEGMENT_LENGTH`]
-    /// the heading change `kappa u` would overflow at 1e7 m; the practical
-    /// bound is the plane: on a segment within ±32 km the heading change
-    /// stays below `100 * 6.4e4 = 6.4e6` rad, far inside the range, and
-    /// `kappa^2` (1e4) and `kappa u` squared terms of the evaluation, which
-    /// are formed from unit-scale arguments, stay finite.
+    /// A radius of 1 cm. The builder keeps every station within
+    /// [`Self::PLANE`] (10 km), so a segment is at most 1e4 m long: the
+    /// heading change `kappa u` stays below 1e6 rad, `u^2` below 1e8 and
+    /// `sigma u^2` (at most `2 kappa_max u`) below 2e6, all far inside the
+    /// range of ±2.1e9.
     const MAX_CURVATURE: Self = Self(100 * ONE_RAW);
     /// Large enough for any transition reaching [`Self::MAX_CURVATURE`] over
     /// 1 cm; `sigma u` is bounded by the end curvatures, and `sigma u^2`
