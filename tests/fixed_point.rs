@@ -249,6 +249,13 @@ mod plane_edges {
             .and_then(|b| b.push(Segment::line(q(100.0))?))
             .and_then(|b| b.build());
         assert_eq!(built.err(), Some(PathError::OutOfRange));
+        // Inside the plane in x and y (a 100 m circle, 80 turns), but its
+        // stations pass 10 km: refused too (so no segment is longer than
+        // 10 km, which bounds kappa u and sigma u^2; see MAX_CURVATURE).
+        let built = PathBuilder::<Q32x32, 4>::new(Pose::new(q(0.0), q(0.0), q(0.0)))
+            .and_then(|b| b.push(Segment::arc(q(50_000.0), q(0.01))?))
+            .and_then(|b| b.build());
+        assert_eq!(built.err(), Some(PathError::OutOfRange));
     }
 
     #[test]
