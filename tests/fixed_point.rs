@@ -281,3 +281,37 @@ mod plane_edges {
         );
     }
 }
+
+mod blob {
+    //! The path blob decodes straight into a Q32.32 path (issue 14: the
+    //! decoder produces the fixed-point path directly), matching the `f64`
+    //! decode of the same bytes.
+
+    use kappaline::io::blob::{decode, encode, encoded_len, EncodeOptions};
+    use kappaline::{Path, PathBuilder, Pose, Q32x32, Real, Segment};
+
+    #[test]
+    fn a_blob_decodes_into_q32_like_into_f64() {
+        let path: Path<f64, 8> = PathBuilder::new(Pose::new(120.0, -40.0, 0.4))
+            .and_then(|b| b.push(Segment::line(80.0)?))
+            .and_then(|b| b.push(Segment::transition(30.0, 0.0, 0.05)?))
+            .and_then(|b| b.push(Segment::arc(40.0, 0.05)?))
+            .and_then(|b| b.build())
+            .expect("path");
+        let o = EncodeOptions::DEFAULT;
+        let mut bytes = vec![0u8; encoded_len(path.len(), o.origin.is_some())];
+        let n = encode(&path, &o, &mut bytes).expect("encode");
+        let (fx, _) = decode::<Q32x32, 8>(&bytes[..n]).expect("decode q32");
+        let (fl, _) = decode::<f64, 8>(&bytes[..n]).expect("decode f64");
+        assert_eq!(fx.len(), fl.len());
+        let mut s = 0.0;
+        while s <= fl.length() {
+            let (a, b) = (fx.at(Q32x32::from_f64(s)), fl.at(s));
+            assert!(
+                (a.x.to_f64() - b.x).abs() < 1e-6 && (a.y.to_f64() - b.y).abs() < 1e-6,
+                "{s}"
+            );
+            s += 0.5;
+        }
+    }
+}
