@@ -1,8 +1,10 @@
 #!/usr/bin/env python3
 """The README's cost table, from what the firmware prints.
 
-Runs the firmware under QEMU for the three boards (or reads saved output
-with --from M4F.txt M3.txt M0.txt), collects its `@cost call;case;min;median;max`
+Runs the firmware under QEMU for the three boards, both binaries (the f32
+one and the Q32.32 fixed-point one), or reads saved output with
+--from M4F.txt M3.txt M0.txt (each file may hold both binaries' output
+concatenated), collects its `@cost call;case;min;median;max`
 lines and prints a Markdown table: one row per call and case, one column per
 core, each cell `median (min-max)` in retired instructions. With --readme
 FILE the table replaces what stands between the markers
@@ -25,9 +27,14 @@ BOARDS = [
 BEGIN, END = "<!-- cost-table:begin -->", "<!-- cost-table:end -->"
 
 
-def run(target):
+# The binaries whose figures make the table: the f32 one and the Q32.32
+# fixed-point one (src/bin/fixed-point.rs; its calls end in ", Q32.32").
+BINS = ["kappaline-qemu", "fixed-point"]
+
+
+def run(target, binary="kappaline-qemu"):
     out = subprocess.run(
-        ["cargo", "run", "--release", "--target", target],
+        ["cargo", "run", "--release", "--target", target, "--bin", binary],
         cwd=HERE, capture_output=True, text=True, timeout=900,
     )
     if out.returncode != 0 or "all checks passed" not in out.stdout:
@@ -76,7 +83,7 @@ def main():
     if a.files:
         texts = [pathlib.Path(f).read_text() for f in a.files]
     else:
-        texts = [run(t) for _, t in BOARDS]
+        texts = ["\n".join(run(t, b) for b in BINS) for _, t in BOARDS]
     t = table([parse(x) for x in texts])
     if not a.readme:
         print(t)

@@ -523,5 +523,6 @@ pub fn firmware_on(
     match s.spec.controller.precision {
         Precision::F32 => boxed::<f32>(s, input),
         Precision::F64 => boxed::<f64>(s, input),
+        Precision::Q32 => boxed::<kappaline::Q32x32>(s, input),
     }
 }

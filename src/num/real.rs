@@ -4,8 +4,8 @@
 //! runs on a Cortex-M0 in soft-float `f32`, on an M4F in hardware `f32` and on
 //! the host in `f64`. The trait asks only for what a fixed-point type can also
 //! give (the four operations, comparison, a square root, `sin_cos`, `atan2`
-//! and conversion from `f64` at load time), so a fixed-point backend can be
-//! added later without touching the algorithms.
+//! and conversion from `f64` at load time); the Q32.32 backend
+//! (`num::fixed`, feature `fixed-point`) implements it.
 //!
 //! Accuracy: `f64` uses libm (correctly rounded or within 1 ulp for the
 //! functions used here); `f32` uses an `f32`-only `sin_cos` (within 2 ulp,
@@ -18,7 +18,7 @@ use core::ops::{Add, AddAssign, Div, Mul, MulAssign, Neg, Sub, SubAssign};
 
 /// A real-number type the algorithms can run on.
 ///
-/// Implemented for `f32` and `f64`. Non-finite values are never produced by
+/// Implemented for `f32`, `f64` and (feature `fixed-point`) `Q32x32`. Non-finite values are never produced by
 /// the crate from finite input; inputs are checked with [`Real::is_finite`]
 /// at every public entry point.
 pub trait Real:
@@ -59,6 +59,12 @@ pub trait Real:
     const MAX_CURVATURE: Self;
     /// Largest sharpness magnitude `|d kappa / d s|` a segment may have, 1/m^2.
     const MAX_SHARPNESS: Self;
+    /// Largest coordinate a path's anchors may have in this type, metres;
+    /// the tracker accepts positions up to twice it. Chosen so that every
+    /// squared distance between a position and a path point stays finite:
+    /// `1e7` (the crate's `MAX_COORDINATE`) for `f32` and `f64`, smaller for
+    /// a fixed-point type.
+    const PLANE: Self;
 
     /// Converts from `f64`, rounding to the nearest representable value.
     fn from_f64(v: f64) -> Self;
@@ -159,6 +165,7 @@ impl Real for f64 {
     /// A radius of 1 micrometre.
     const MAX_CURVATURE: Self = 1.0e6;
     const MAX_SHARPNESS: Self = 1.0e12;
+    const PLANE: Self = 1.0e7;
 
     #[inline]
     fn from_f64(v: f64) -> Self {
@@ -208,6 +215,7 @@ impl Real for f32 {
     /// A radius of 1 millimetre.
     const MAX_CURVATURE: Self = 1.0e3;
     const MAX_SHARPNESS: Self = 1.0e6;
+    const PLANE: Self = 1.0e7;
 
     #[inline]
     fn from_f64(v: f64) -> Self {

@@ -180,7 +180,7 @@ impl<T: Real, const N: usize> PathBuilder<T, N> {
         if !start.is_finite() {
             return Err(PathError::NonFinite { index: usize::MAX });
         }
-        if !within_plane(start.x.to_f64()) || !within_plane(start.y.to_f64()) {
+        if !within_plane::<T>(start.x.to_f64()) || !within_plane::<T>(start.y.to_f64()) {
             return Err(PathError::OutOfRange);
         }
         let a = Anchor64::from_pose(Pose::new(
@@ -396,7 +396,7 @@ impl<T: Real, const N: usize> AnchoredBuilder<T, N> {
         if !part.start.is_finite() {
             return Err(PathError::NonFinite { index });
         }
-        if !within_plane(part.start.x.to_f64()) || !within_plane(part.start.y.to_f64()) {
+        if !within_plane::<T>(part.start.x.to_f64()) || !within_plane::<T>(part.start.y.to_f64()) {
             return Err(PathError::OutOfRange);
         }
         let mut a = Anchor64::from_pose(Pose::new(
@@ -717,7 +717,10 @@ fn check_after<T: Real>(
     if !(in_t(after.x) && in_t(after.y) && in_t(after.station) && after.theta.is_finite()) {
         return Err(PathError::NonFinite { index });
     }
-    if !(within_plane(after.x) && within_plane(after.y) && within_plane(after.station)) {
+    if !(within_plane::<T>(after.x)
+        && within_plane::<T>(after.y)
+        && within_plane::<T>(after.station))
+    {
         return Err(PathError::OutOfRange);
     }
     if T::from_f64(after.station) <= T::from_f64(before.station) {
@@ -732,10 +735,11 @@ fn check_after<T: Real>(
 /// in `f32` too.
 pub const MAX_COORDINATE: f64 = 1.0e7;
 
-/// `|v| <= MAX_COORDINATE`.
+/// `|v| <= MAX_COORDINATE` and within the backend's plane
+/// ([`Real::PLANE`], the same bound for `f32` and `f64`).
 #[inline]
-pub(crate) fn within_plane(v: f64) -> bool {
-    libm::fabs(v) <= MAX_COORDINATE
+pub(crate) fn within_plane<T: Real>(v: f64) -> bool {
+    libm::fabs(v) <= MAX_COORDINATE && libm::fabs(v) <= T::PLANE.to_f64()
 }
 
 /// `theta` wrapped into `[-pi, pi]` as the angle whose sine and cosine

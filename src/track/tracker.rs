@@ -1020,14 +1020,15 @@ impl<T: Real> Tracker<T> {
 
 /// Refuses a non-finite pose or offset, and positions so far out that the
 /// squared distances of the projection could overflow (`f32` included):
-/// beyond twice [`crate::MAX_COORDINATE`], the bound of every path point.
+/// beyond twice [`Real::PLANE`] (for `f32` and `f64` [`crate::MAX_COORDINATE`]),
+/// the bound of every path anchor.
 fn check_input<T: Real>(pose: &Pose<T>, offset: T) -> Result<(), TrackError> {
     if !pose.is_finite() || !offset.is_finite() {
         return Err(TrackError::NonFinite);
     }
     // In `T`: on an `f32` target, `f64` arithmetic here would be soft-float
     // on the per-cycle path.
-    let limit: T = c(2.0 * crate::path::MAX_COORDINATE);
+    let limit: T = T::PLANE + T::PLANE;
     let far = |v: T| v.abs() > limit;
     if far(pose.x) || far(pose.y) || far(offset) {
         return Err(TrackError::OutOfRange);

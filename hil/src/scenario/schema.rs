@@ -387,7 +387,8 @@ pub struct ControllerSpec {
     #[serde(default)]
     pub supervisor: SupervisorSpec,
     /// Numeric type of the controller: `f32` (as on a microcontroller with
-    /// a single-precision FPU) or `f64`.
+    /// a single-precision FPU), `f64`, or `q32` (the Q32.32 fixed-point
+    /// backend `kappaline::Q32x32`, as on a core without an FPU).
     #[serde(default)]
     pub precision: Precision,
 }
@@ -401,6 +402,8 @@ pub enum Precision {
     F32,
     /// Double precision.
     F64,
+    /// Q32.32 fixed point (`kappaline::Q32x32`).
+    Q32,
 }
 
 fn yes() -> bool {

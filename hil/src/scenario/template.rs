@@ -41,7 +41,7 @@ pub fn starting_scenario(kind: MachineKind, name: &str) -> String {
         "\n[controller]\n\
          rate_hz = {rate:.1}                 # control rate; must divide physics_hz (1000)\n\
          speed_m_s = {speed:.1}               # set speed, capped by the guidance speed limit\n\
-         precision = \"f32\"             # \"f32\" as on a single-precision FPU, or \"f64\"\n\
+         precision = \"f32\"             # \"f32\" as on a single-precision FPU, \"f64\", or \"q32\" (Q32.32 fixed point)\n\
          # The Frenet law with the core's preset for this kind; the other two laws with\n\
          # their presets (switch on the command line with --set controller.law.kind=stanley):\n\
          law = {{ kind = \"frenet\", cross_track_gain_per_m2 = {kd:?}, heading_gain_per_m = {kh:?} }}\n\
