@@ -402,10 +402,16 @@ impl<T: Real> Stepper<T> {
     /// The path heading `u` metres into segment `seg` (radians, not
     /// wrapped) if a base covers it, without trigonometry.
     pub fn heading(&self, seg: usize, u: T) -> Option<T> {
-        [&self.near, &self.far, &self.spare]
-            .into_iter()
-            .find(|b| b.covers(seg, u))
-            .map(|b| b.heading(u))
+        // The near base first: it covers the foot on almost every call.
+        if self.near.covers(seg, u) {
+            Some(self.near.heading(u))
+        } else if self.far.covers(seg, u) {
+            Some(self.far.heading(u))
+        } else if self.spare.covers(seg, u) {
+            Some(self.spare.heading(u))
+        } else {
+            None
+        }
     }
 
     /// As [`Stepper::near_point`] for other points near the foot:
