@@ -313,7 +313,7 @@ fn copy_tracking<T: Copy>(t: &Tracking<T>) -> Tracking<T> {
         curvature: t.curvature,
         curvature_ahead: t.curvature_ahead,
         distance_to_end: t.distance_to_end,
-        foot: copy_point(&t.foot),
+        foot: t.foot,
         ahead: copy_point(&t.ahead),
         status: t.status,
     }
