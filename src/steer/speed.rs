@@ -92,6 +92,30 @@ pub fn speed_cap<T: Real, const N: usize>(
     station: T,
     stop_at: Option<T>,
 ) -> T {
+    cap_from_square(speed_cap_sq(path, vehicle, station, stop_at))
+}
+
+/// The speed cap from its square (see [`speed_cap_sq`]), m/s: finite and
+/// `>= 0`.
+#[inline]
+pub(crate) fn cap_from_square<T: Real>(v2: T) -> T {
+    let v = v2.max(T::ZERO).sqrt();
+    if v.is_finite() {
+        v
+    } else {
+        T::ZERO
+    }
+}
+
+/// The square of [`speed_cap`] before its root, m^2/s^2 (0 for a station
+/// that is not finite): the guidance keeps the last root and takes a new
+/// one only when this changes (on an arc or a line it does not).
+pub(crate) fn speed_cap_sq<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    vehicle: &Vehicle<T>,
+    station: T,
+    stop_at: Option<T>,
+) -> T {
     if !station.is_finite() {
         return T::ZERO;
     }
@@ -145,12 +169,7 @@ pub fn speed_cap<T: Real, const N: usize>(
     if !covered {
         v2 = v2.min(T::TWO * a * ahead);
     }
-    let v = v2.max(T::ZERO).sqrt();
-    if v.is_finite() {
-        v
-    } else {
-        T::ZERO
-    }
+    v2
 }
 
 #[cfg(test)]
