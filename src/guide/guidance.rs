@@ -86,7 +86,7 @@ use crate::path::cursor::Cursor;
 use crate::path::pose::{Direction, PathPoint, Pose};
 use crate::steer::law::{SteerError, SteeringInput, SteeringLaw};
 use crate::steer::limits::{Limited, SteerLimiter};
-use crate::steer::speed::{cap_from_square, speed_cap_sq};
+use crate::steer::speed::{cap_from_square, speed_cap_sq_memo, ScanMemo};
 use crate::steer::vehicle::{rear_axle_offset, Vehicle};
 use crate::track::tracker::{Acquisition, TrackStatus, Tracker, TrackerConfig, Tracking};
 
@@ -394,6 +394,8 @@ pub struct Guidance<T: Real, L> {
     /// The last speed cap's square and the cap (m^2/s^2, m/s), so that an
     /// unchanged square costs no square root.
     cap_memo: (T, T),
+    /// The speed scan's last single-segment window (for `self.vehicle`).
+    scan_memo: ScanMemo<T>,
 }
 
 /// Where the control point is, found during one cycle.
@@ -442,6 +444,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             reason: None,
             operator: Operator::new(),
             cap_memo: (T::ZERO, T::ZERO),
+            scan_memo: ScanMemo::new(),
         })
     }
 
@@ -865,7 +868,13 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let stop = if leg.stop_at_end { Some(leg.end) } else { None };
         // The command holds for one period: cap where the vehicle will be
         // at its end.
-        let v2 = speed_cap_sq(path, &self.vehicle, cp.station + speed * dt, stop);
+        let v2 = speed_cap_sq_memo(
+            path,
+            &self.vehicle,
+            cp.station + speed * dt,
+            stop,
+            &mut self.scan_memo,
+        );
         // The same square as last cycle (an arc, a line): the same root.
         // (Compared bit for bit: NaN never repeats, so it is rooted afresh.)
         let (last_v2, last_cap) = self.cap_memo;

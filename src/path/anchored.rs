@@ -643,6 +643,18 @@ impl<T: Real, const N: usize> Path<T, N> {
         }
     }
 
+    /// Placed segment `index` and the station where it ends (the next
+    /// anchor's, or the path's length), or `None` past the end.
+    #[inline]
+    pub(crate) fn placed_with_end(&self, index: usize) -> Option<(&Placed<T>, T)> {
+        let p = self.placed.get(index)?;
+        let end = match self.placed.get(index.saturating_add(1)) {
+            Some(n) => n.station,
+            None => self.total,
+        };
+        Some((p, end))
+    }
+
     /// Wraps (closed) or clamps (open) a station into the path.
     pub(crate) fn normalize_station(&self, s: T) -> T {
         if self.closed {
