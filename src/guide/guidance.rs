@@ -14,7 +14,7 @@
 //!    its lookahead goal onto the current **leg** (a run of segments with
 //!    one driving direction; legs meet at cusps), in the travel frame;
 //! 4. the steering law, then the vehicle limits ([`SteerLimiter`]) and the
-//!    speed cap ([`speed_cap`]);
+//!    speed cap ([`speed_cap`](crate::speed_cap));
 //! 5. the supervisor's state machine (see [`crate::guide::supervisor`]) choosing
 //!    between that command, hold, straighten and stop.
 //!
@@ -86,7 +86,7 @@ use crate::path::cursor::Cursor;
 use crate::path::pose::{Direction, PathPoint, Pose};
 use crate::steer::law::{SteerError, SteeringInput, SteeringLaw};
 use crate::steer::limits::{Limited, SteerLimiter};
-use crate::steer::speed::speed_cap;
+use crate::steer::speed::{cap_from_square, speed_cap_sq_memo, ScanMemo};
 use crate::steer::vehicle::{rear_axle_offset, Vehicle};
 use crate::track::tracker::{Acquisition, TrackStatus, Tracker, TrackerConfig, Tracking};
 
@@ -300,6 +300,41 @@ fn on_leg_with<T: Real>(
     }
 }
 
+/// A copy of `t` field by field: a whole `Tracking` moved at once is a
+/// call of `memcpy` (its 100 bytes in `f32` exceed what the compiler copies
+/// inline on a Cortex-M: 92 instructions on an M4F), its parts are copied
+/// inline.
+#[inline(always)]
+fn copy_tracking<T: Copy>(t: &Tracking<T>) -> Tracking<T> {
+    Tracking {
+        station: t.station,
+        cross_track: t.cross_track,
+        heading_error: t.heading_error,
+        curvature: t.curvature,
+        curvature_ahead: t.curvature_ahead,
+        distance_to_end: t.distance_to_end,
+        foot: t.foot,
+        ahead: copy_point(&t.ahead),
+        status: t.status,
+    }
+}
+
+/// A copy of `p` field by field (see [`copy_tracking`]).
+#[inline(always)]
+fn copy_point<T: Copy>(p: &PathPoint<T>) -> PathPoint<T> {
+    PathPoint {
+        station: p.station,
+        x: p.x,
+        y: p.y,
+        cos: p.cos,
+        sin: p.sin,
+        curvature: p.curvature,
+        sharpness: p.sharpness,
+        segment: p.segment,
+        direction: p.direction,
+    }
+}
+
 /// The guidance: tracker, steering law, limiter and supervisor.
 ///
 /// ```
@@ -356,6 +391,11 @@ pub struct Guidance<T: Real, L> {
     reason: Option<Reason>,
     /// Engage state, pass and line shift.
     operator: Operator<T>,
+    /// The last speed cap's square and the cap (m^2/s^2, m/s), so that an
+    /// unchanged square costs no square root.
+    cap_memo: (T, T),
+    /// The speed scan's last single-segment window (for `self.vehicle`).
+    scan_memo: ScanMemo<T>,
 }
 
 /// Where the control point is, found during one cycle.
@@ -367,6 +407,8 @@ struct Situation<T> {
     body: (T, T),
     /// `true` if `cp` is the tracker's foot (its lookahead then starts there).
     from_foot: bool,
+    /// The law's lookahead at the fix's speed, metres (asked once a cycle).
+    look: T,
 }
 
 impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
@@ -401,6 +443,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             driven: T::ZERO,
             reason: None,
             operator: Operator::new(),
+            cap_memo: (T::ZERO, T::ZERO),
+            scan_memo: ScanMemo::new(),
         })
     }
 
@@ -628,7 +672,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
     fn locate<const N: usize>(&mut self, path: &Path<T, N>, f: &Fix<T>) -> Option<Situation<T>> {
         let dir = self.leg.map(|l| l.direction).unwrap_or_default();
         let u_cp = dir.sign::<T>() * self.vehicle.control_point();
-        let reach = (self.law.lookahead(f.speed.abs()) - u_cp).max(T::ZERO);
+        let mut look = self.law.lookahead(f.speed.abs());
+        let reach = (look - u_cp).max(T::ZERO);
         // A lookahead the tracker refuses (not finite) keeps the old one.
         let _ = self.tracker.set_lookahead(reach);
         let pose = Pose::new(f.x, f.y, f.heading);
@@ -679,6 +724,8 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                     // acquisition: once per leg change.
                     leg = leg_of(path, n);
                     self.law.reset();
+                    // Asked again after the reset, as before it.
+                    look = self.law.lookahead(f.speed.abs());
                     from_foot = false;
                     cp = project(
                         path,
@@ -709,6 +756,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             tracking,
             body,
             from_foot,
+            look,
         })
     }
 
@@ -728,8 +776,9 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             tracking,
             body,
             from_foot,
+            look,
         } = sit;
-        let (leg, cp, body, from_foot) = (*leg, *cp, *body, *from_foot);
+        let (leg, cp, body, from_foot, look) = (*leg, *cp, *body, *from_foot, *look);
         let last_leg = leg.last + 1 >= path.len() && !path.is_closed();
         if last_leg && cp.station >= leg.end - self.config.end_tolerance {
             self.mode = Mode::EndOfPath;
@@ -763,7 +812,6 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
             })
         };
         let speed = f.speed.abs();
-        let look = self.law.lookahead(speed);
         let goal = if look > T::ZERO {
             let at = cp.station + (look - u_cp).max(T::ZERO);
             let on = clamp_on(&leg, at);
@@ -820,7 +868,23 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
         let stop = if leg.stop_at_end { Some(leg.end) } else { None };
         // The command holds for one period: cap where the vehicle will be
         // at its end.
-        let mut limit = speed_cap(path, &self.vehicle, cp.station + speed * dt, stop);
+        let v2 = speed_cap_sq_memo(
+            path,
+            &self.vehicle,
+            cp.station + speed * dt,
+            stop,
+            &mut self.scan_memo,
+        );
+        // The same square as last cycle (an arc, a line): the same root.
+        // (Compared bit for bit: NaN never repeats, so it is rooted afresh.)
+        let (last_v2, last_cap) = self.cap_memo;
+        let mut limit = if v2 == last_v2 {
+            last_cap
+        } else {
+            let cap = cap_from_square(v2);
+            self.cap_memo = (v2, cap);
+            cap
+        };
         if stop.is_some_and(|e| cp.station >= e - self.config.cusp_tolerance) {
             limit = T::ZERO;
         }
@@ -863,7 +927,7 @@ impl<T: Real, L: SteeringLaw<T>> Guidance<T, L> {
                 GuidanceStatus::Following | GuidanceStatus::EndOfPath => None,
                 _ => self.reason,
             },
-            tracking: tracking.copied(),
+            tracking: tracking.map(copy_tracking),
         }
     }
 

@@ -223,9 +223,10 @@ pub(crate) struct FixMonitor<T> {
     raw: Option<Oriented<T>>,
     /// Consecutive finite, fresh fixes consistent with the one before.
     pub(crate) agreeing: u32,
-    /// The last new fix, if it was usable when it came: dead reckoning on
-    /// cycles without a new fix starts from it.
-    held: Option<Oriented<T>>,
+    /// `true` if the last new fix (`raw`) was usable when it came: dead
+    /// reckoning on cycles without a new fix starts from it. (A flag, not a
+    /// second copy of the fix: one copy less per cycle.)
+    held: bool,
     /// Why the last new fix was not usable (for cycles without a new one).
     refused: Reason,
     /// The heading of the last verdict's fix (rad; NaN: none) and its unit
@@ -309,7 +310,7 @@ impl<T: Real> FixMonitor<T> {
             accepted: None,
             raw: None,
             agreeing: 0,
-            held: None,
+            held: false,
             refused: Reason::NoFix,
             last: (c(f64::NAN), (T::ZERO, T::ONE)),
         }
@@ -332,7 +333,7 @@ impl<T: Real> FixMonitor<T> {
     /// the one cycles without a new fix dead-reckon from.
     pub(crate) fn forget_accepted(&mut self) {
         self.accepted = None;
-        self.held = self.raw;
+        self.held = self.raw.is_some();
     }
 
     /// Marks `fix` as accepted (the guidance steered with it).
@@ -352,7 +353,7 @@ impl<T: Real> FixMonitor<T> {
     ) -> Verdict<T> {
         match update {
             FixUpdate::NoFix => {
-                self.held = None;
+                self.held = false;
                 self.refused = Reason::NoFix;
                 Verdict::Unusable(Reason::NoFix)
             }
@@ -361,9 +362,10 @@ impl<T: Real> FixMonitor<T> {
                 let f = Oriented::of(*f);
                 let verdict = self.check_new(&f, now, cfg, curvature);
                 match verdict {
-                    Verdict::Usable(_) => self.held = Some(f),
+                    // `check_new` kept `f` as the last raw fix.
+                    Verdict::Usable(_) => self.held = true,
                     Verdict::Jumped(_) | Verdict::Unusable(_) => {
-                        self.held = None;
+                        self.held = false;
                         self.refused = verdict.reason().unwrap_or(Reason::BadFix);
                     }
                 }
@@ -376,7 +378,7 @@ impl<T: Real> FixMonitor<T> {
     /// it is fresh. It was checked when it came; it is not counted again
     /// towards `agreeing`.
     fn check_held(&mut self, now: Micros, cfg: &SupervisorConfig<T>, curvature: T) -> Verdict<T> {
-        let Some(f) = self.held else {
+        let Some(f) = self.raw.filter(|_| self.held) else {
             return Verdict::Unusable(self.refused);
         };
         let age = now.seconds_since::<T>(f.fix.time);

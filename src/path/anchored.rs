@@ -653,10 +653,25 @@ impl<T: Real, const N: usize> Path<T, N> {
     /// Placed segment `index`, clamped to the last one (never panics).
     #[inline]
     pub(crate) fn placed_at(&self, index: usize) -> &Placed<T> {
-        let i = index.min(self.placed.len().saturating_sub(1));
-        // A path always holds at least one segment, so `get` succeeds; the
-        // fallback keeps the function total without a panic path.
-        self.placed.get(i).unwrap_or(&self.end)
+        // In range (every call on the per-cycle path): one bounds check.
+        // Past the end: the last segment. A path always holds at least one
+        // segment; the fallback keeps the function total without a panic path.
+        match self.placed.get(index) {
+            Some(p) => p,
+            None => self.placed.last().unwrap_or(&self.end),
+        }
+    }
+
+    /// Placed segment `index` and the station where it ends (the next
+    /// anchor's, or the path's length), or `None` past the end.
+    #[inline]
+    pub(crate) fn placed_with_end(&self, index: usize) -> Option<(&Placed<T>, T)> {
+        let p = self.placed.get(index)?;
+        let end = match self.placed.get(index.saturating_add(1)) {
+            Some(n) => n.station,
+            None => self.total,
+        };
+        Some((p, end))
     }
 
     /// Wraps (closed) or clamps (open) a station into the path.

@@ -92,24 +92,110 @@ pub fn speed_cap<T: Real, const N: usize>(
     station: T,
     stop_at: Option<T>,
 ) -> T {
+    cap_from_square(speed_cap_sq(path, vehicle, station, stop_at))
+}
+
+/// The speed cap from its square (see [`speed_cap_sq`]), m/s: finite and
+/// `>= 0`.
+#[inline]
+pub(crate) fn cap_from_square<T: Real>(v2: T) -> T {
+    let v = v2.max(T::ZERO).sqrt();
+    if v.is_finite() {
+        v
+    } else {
+        T::ZERO
+    }
+}
+
+/// The square of [`speed_cap`] before its root, m^2/s^2 (0 for a station
+/// that is not finite): the guidance keeps the last root and takes a new
+/// one only when this changes (on an arc or a line it does not).
+#[inline]
+pub(crate) fn speed_cap_sq<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    vehicle: &Vehicle<T>,
+    station: T,
+    stop_at: Option<T>,
+) -> T {
+    speed_cap_sq_memo(path, vehicle, station, stop_at, &mut ScanMemo::new())
+}
+
+/// What a scan found when the whole braking window lay in one segment of
+/// constant curvature: that segment's limit term. While the window stays
+/// there, the limit is the same whatever the station (curvature does not
+/// vary along the segment), so the next scan skips the segment search and
+/// the limit; only the window's end is checked again. Keyed on the
+/// segment's index, start station and curvature, read from the path on
+/// each use (another path with the same segment gives the same term); the
+/// vehicle must be the one it was found with.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct ScanMemo<T> {
+    /// The segment, `usize::MAX` for none.
+    seg: usize,
+    /// Its start station, m.
+    start: T,
+    /// Its curvature, 1/m.
+    kappa0: T,
+    /// The term the scan took the minimum with (the segment's squared
+    /// limit), m^2/s^2.
+    term: T,
+    /// The vehicle's top speed squared (m^2/s^2) and the scan's reach (m),
+    /// once found: a division and two products each cycle otherwise, some
+    /// hundred instructions each in soft float on an M0.
+    reach: Option<(T, T)>,
+}
+
+impl<T: Real> ScanMemo<T> {
+    /// No memo: the next scan runs in full.
+    pub(crate) fn new() -> Self {
+        Self {
+            seg: usize::MAX,
+            start: T::ZERO,
+            kappa0: T::ZERO,
+            term: T::ZERO,
+            reach: None,
+        }
+    }
+}
+
+/// [`speed_cap_sq`] with a memo of the last scan (see [`ScanMemo`]): the
+/// same result bit for bit, the scan skipped while the window stays in the
+/// memo's segment. `vehicle` must be the same on every call with one memo.
+pub(crate) fn speed_cap_sq_memo<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    vehicle: &Vehicle<T>,
+    station: T,
+    stop_at: Option<T>,
+    memo: &mut ScanMemo<T>,
+) -> T {
     if !station.is_finite() {
         return T::ZERO;
     }
     let a = vehicle.max_deceleration();
-    let vmax = vehicle.max_speed();
-    let horizon = vmax * vmax / (T::TWO * a) + c(SCAN_MARGIN);
-    let mut v2 = vmax * vmax;
+    let (vmax2, horizon) = match memo.reach {
+        Some(r) => r,
+        None => {
+            let vmax = vehicle.max_speed();
+            let r = (vmax * vmax, vmax * vmax / (T::TWO * a) + c(SCAN_MARGIN));
+            memo.reach = Some(r);
+            r
+        }
+    };
+    let mut v2 = vmax2;
     if let Some(stop) = stop_at {
         if stop.is_finite() {
             v2 = v2.min(T::TWO * a * (stop - station).max(T::ZERO));
         }
     }
     let s0 = path.normalize_station(station);
+    if let Some(term) = memo_term(path, memo, s0, horizon) {
+        return v2.min(term);
+    }
     let mut seg = path.find_segment(s0);
     let mut offset = s0 - path.placed_at(seg).station;
     let mut ahead = T::ZERO; // distance from `station` to the start of the part in view
     let mut covered = false;
-    for _ in 0..SPEED_SCAN_SEGMENTS {
+    for i in 0..SPEED_SCAN_SEGMENTS {
         let Some(shape) = path.segment(seg) else {
             covered = true;
             break;
@@ -126,9 +212,22 @@ pub fn speed_cap<T: Real, const N: usize>(
             k0.abs().min(k1.abs())
         };
         let vl2 = local_speed_limit_sq(vehicle, k_max, k_min, shape.sigma());
-        v2 = v2.min(vl2 + T::TWO * a * ahead);
+        let term = vl2 + T::TWO * a * ahead;
+        v2 = v2.min(term);
         ahead += len - u0;
         if ahead >= horizon {
+            // The whole window in the first segment, of constant
+            // curvature: its term holds while the window stays there.
+            // (A memo left from before stays valid: each use checks it.)
+            if i == 0 && shape.sigma() == T::ZERO {
+                *memo = ScanMemo {
+                    seg,
+                    start: path.placed_at(seg).station,
+                    kappa0: shape.kappa0(),
+                    term,
+                    reach: Some((vmax2, horizon)),
+                };
+            }
             covered = true;
             break;
         }
@@ -145,11 +244,37 @@ pub fn speed_cap<T: Real, const N: usize>(
     if !covered {
         v2 = v2.min(T::TWO * a * ahead);
     }
-    let v = v2.max(T::ZERO).sqrt();
-    if v.is_finite() {
-        v
+    v2
+}
+
+/// The memo's term if the window from `s0` (normalised, m) over `horizon`
+/// (m) lies in the memo's segment as the full scan would find it: the
+/// segment holding `s0` (as `Path::find_segment`), with its start and
+/// curvature unchanged, constant curvature, and the window's end within it.
+#[inline]
+fn memo_term<T: Real, const N: usize>(
+    path: &Path<T, N>,
+    memo: &ScanMemo<T>,
+    s0: T,
+    horizon: T,
+) -> Option<T> {
+    let (p, end) = path.placed_with_end(memo.seg)?;
+    let holds = p.station == memo.start
+        && p.kappa0 == memo.kappa0
+        && p.sigma == T::ZERO
+        && p.station <= s0
+        && (s0 < end || memo.seg.saturating_add(1) == path.len());
+    if !holds {
+        return None;
+    }
+    // As the scan: the offset into the segment, clamped, and what is left
+    // of the segment beyond it must cover the window.
+    let len = end - p.station;
+    let u0 = (s0 - p.station).clamp_to(T::ZERO, len);
+    if T::ZERO + (len - u0) >= horizon {
+        Some(memo.term)
     } else {
-        T::ZERO
+        None
     }
 }
 
@@ -179,6 +304,61 @@ mod tests {
         let cap = speed_cap(&path, &v, 0.0, None);
         // The cap at the start of the clothoid uses kappa_min = 0.
         assert!((cap - 2.0).abs() < 1e-12, "{cap}");
+    }
+
+    #[test]
+    fn memo_scan_matches_full_scan() {
+        // Driving along a line, an arc and a clothoid with one memo: each
+        // result equals a fresh scan bit for bit, and on the arc, far from
+        // its ends, it is the lateral limit v^2 = a_lat / |kappa|
+        // (textbook circular motion: a = v^2 / r).
+        let v = Vehicle::<f32>::front_steered(2.5, 0.6, 0.5)
+            .unwrap()
+            .with_max_speed(4.0)
+            .unwrap()
+            .with_max_lateral_acceleration(1.0)
+            .unwrap()
+            .with_max_deceleration(1.0)
+            .unwrap();
+        let path = PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::line(30.0).unwrap())
+            .unwrap()
+            .push(Segment::arc(40.0, -0.2).unwrap())
+            .unwrap()
+            .push(Segment::transition(20.0, -0.2, 0.1).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let mut memo = ScanMemo::new();
+        let mut hits = 0;
+        for i in 0..1000 {
+            let s = i as f32 * 0.1;
+            for stop in [None, Some(85.0)] {
+                let fast = speed_cap_sq_memo(&path, &v, s, stop, &mut memo);
+                let full = speed_cap_sq(&path, &v, s, stop);
+                assert_eq!(fast.to_bits(), full.to_bits(), "at {s} m, stop {stop:?}");
+                hits += usize::from(memo.seg != usize::MAX);
+            }
+        }
+        assert!(hits > 0);
+        let mid = speed_cap_sq_memo(&path, &v, 45.0, None, &mut memo);
+        assert!((mid - 1.0 / 0.2).abs() < 1e-5, "{mid}");
+        // Another path under the same memo: its own result.
+        let other = PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::line(30.0).unwrap())
+            .unwrap()
+            .push(Segment::arc(40.0, 0.5).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let fast = speed_cap_sq_memo(&other, &v, 45.0, None, &mut memo);
+        assert_eq!(
+            fast.to_bits(),
+            speed_cap_sq(&other, &v, 45.0, None).to_bits()
+        );
+        assert!((fast - 1.0 / 0.5).abs() < 1e-5, "{fast}");
     }
 
     #[test]

@@ -312,10 +312,15 @@ impl<T: Real> Tracker<T> {
     /// [`TrackError::NonFinite`] or [`TrackError::OutOfRange`] (negative);
     /// the tracker is unchanged on error.
     pub fn set_lookahead(&mut self, lookahead: T) -> Result<(), TrackError> {
-        let mut cfg = self.config;
-        cfg.lookahead = lookahead;
-        cfg.check()?;
-        self.config = cfg;
+        // The rest of the configuration was checked by `Tracker::new`: only
+        // the new value needs the checks of `TrackerConfig` (every cycle).
+        if !lookahead.is_finite() {
+            return Err(TrackError::NonFinite);
+        }
+        if lookahead < T::ZERO {
+            return Err(TrackError::OutOfRange);
+        }
+        self.config.lookahead = lookahead;
         Ok(())
     }
 
