@@ -362,6 +362,56 @@ mod tests {
     }
 
     #[test]
+    fn memo_is_not_used_past_its_segment_either_way() {
+        // A gentle arc between two tight ones (line 30 m, kappa 0.05 over
+        // 40 m, 0.2 over 20 m, 0.05 over 40 m): near the end of a gentle
+        // arc the tight one ahead binds, v^2 = a_lat / 0.2 + 2 a d at a
+        // distance d from it (circular motion, a = v^2 / r; braking at
+        // constant deceleration, v^2 = 2 a d), below the gentle arc's
+        // a_lat / 0.05, so a memo reused beyond its segment shows. Driven
+        // forward, then back from the last arc into the tight one, with one
+        // memo; every result equals a fresh scan bit for bit.
+        let v = Vehicle::<f32>::front_steered(2.5, 0.6, 0.5)
+            .unwrap()
+            .with_max_speed(4.0)
+            .unwrap()
+            .with_max_lateral_acceleration(1.0)
+            .unwrap()
+            .with_max_deceleration(1.0)
+            .unwrap();
+        let path = PathBuilder::<f32, 8>::new(Pose::new(0.0, 0.0, 0.0))
+            .unwrap()
+            .push(Segment::line(30.0).unwrap())
+            .unwrap()
+            .push(Segment::arc(40.0, 0.05).unwrap())
+            .unwrap()
+            .push(Segment::arc(20.0, 0.2).unwrap())
+            .unwrap()
+            .push(Segment::arc(40.0, 0.05).unwrap())
+            .unwrap()
+            .build()
+            .unwrap();
+        let mut memo = ScanMemo::new();
+        let forward = (0..1300).map(|i| i as f32 * 0.1);
+        let back = (0..400).map(|i| 125.0 - i as f32 * 0.1);
+        for s in forward.chain(back) {
+            let fast = speed_cap_sq_memo(&path, &v, s, None, &mut memo);
+            let full = speed_cap_sq(&path, &v, s, None);
+            assert_eq!(fast.to_bits(), full.to_bits(), "at {s} m");
+        }
+        // 2 m before the tight arc: 1 / 0.2 + 2 * 1 * 2 = 9 m^2/s^2, under
+        // the gentle arc's 1 / 0.05 = 20 and the top speed's 16.
+        let mut memo = ScanMemo::new();
+        let _ = speed_cap_sq_memo(&path, &v, 40.0, None, &mut memo);
+        let near = speed_cap_sq_memo(&path, &v, 68.0, None, &mut memo);
+        assert!((near - 9.0).abs() < 1e-4, "{near}");
+        // Back in the tight arc after a memo of the last one: 1 / 0.2 = 5.
+        let _ = speed_cap_sq_memo(&path, &v, 100.0, None, &mut memo);
+        let tight = speed_cap_sq_memo(&path, &v, 85.0, None, &mut memo);
+        assert!((tight - 5.0).abs() < 1e-4, "{tight}");
+    }
+
+    #[test]
     fn differential_rate_and_lateral_caps() {
         // d kappa / dt = v sigma <= 2 1/m/s with sigma = 4 /m^2 -> 0.5 m/s;
         // a_lat = 1 m/s^2 on kappa = 0.25 1/m -> 2 m/s (capped at 1.5).
