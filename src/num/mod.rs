@@ -1,7 +1,7 @@
 //! Numbers: the numeric backend every other layer is generic over.
 //!
 //! Holds [`Real`] (implemented for `f32`, `f64` and, with the `fixed-point`
-//! feature, the Q32.32 type [`fixed::Q32x32`]), the `f32`-only
+//! feature, the Q32.32 type `fixed::Q32x32`), the `f32`-only
 //! `sin_cos` kernel and a small private complex type. Uses nothing else in
 //! the crate; every other layer may use it.
 
