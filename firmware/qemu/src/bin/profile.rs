@@ -13,12 +13,12 @@
 mod meter;
 
 use cortex_m_rt::entry;
-use meter::Meter;
 use cortex_m_semihosting::{debug, hprintln};
 use kappaline::{
-    Continuity, Fix, FixUpdate, Guidance, GuidanceInput, GuidanceStatus, Micros, Path,
-    PathBuilder, Pose, PurePursuit, Segment, SupervisorConfig, TrackerConfig, Vehicle,
+    Continuity, Fix, FixUpdate, Guidance, GuidanceInput, GuidanceStatus, Micros, Path, PathBuilder,
+    Pose, PurePursuit, Segment, SupervisorConfig, TrackerConfig, Vehicle,
 };
+use meter::Meter;
 
 const CYCLES: usize = 64;
 const START: f32 = 10.0;
