@@ -306,20 +306,22 @@ mod tests {
         assert!((cap - 2.0).abs() < 1e-12, "{cap}");
     }
 
+    /// The machine of the memo tests: 4 m/s, 1 m/s^2 lateral and braking.
+    fn memo_vehicle() -> Vehicle<f32> {
+        Vehicle::<f32>::front_steered(2.5, 0.6, 0.5)
+            .and_then(|v| v.with_max_speed(4.0))
+            .and_then(|v| v.with_max_lateral_acceleration(1.0))
+            .and_then(|v| v.with_max_deceleration(1.0))
+            .unwrap()
+    }
+
     #[test]
     fn memo_scan_matches_full_scan() {
         // Driving along a line, an arc and a clothoid with one memo: each
         // result equals a fresh scan bit for bit, and on the arc, far from
         // its ends, it is the lateral limit v^2 = a_lat / |kappa|
         // (textbook circular motion: a = v^2 / r).
-        let v = Vehicle::<f32>::front_steered(2.5, 0.6, 0.5)
-            .unwrap()
-            .with_max_speed(4.0)
-            .unwrap()
-            .with_max_lateral_acceleration(1.0)
-            .unwrap()
-            .with_max_deceleration(1.0)
-            .unwrap();
+        let v = memo_vehicle();
         let path = PathBuilder::<f32, 4>::new(Pose::new(0.0, 0.0, 0.0))
             .unwrap()
             .push(Segment::line(30.0).unwrap())
@@ -371,14 +373,7 @@ mod tests {
         // a_lat / 0.05, so a memo reused beyond its segment shows. Driven
         // forward, then back from the last arc into the tight one, with one
         // memo; every result equals a fresh scan bit for bit.
-        let v = Vehicle::<f32>::front_steered(2.5, 0.6, 0.5)
-            .unwrap()
-            .with_max_speed(4.0)
-            .unwrap()
-            .with_max_lateral_acceleration(1.0)
-            .unwrap()
-            .with_max_deceleration(1.0)
-            .unwrap();
+        let v = memo_vehicle();
         let path = PathBuilder::<f32, 8>::new(Pose::new(0.0, 0.0, 0.0))
             .unwrap()
             .push(Segment::line(30.0).unwrap())
