@@ -154,9 +154,8 @@ fn clothoid_roots<T: Real>(
     let kappa_hi = (pl.kappa0 + pl.sigma * hi).abs();
     let turn = kappa_lo.max(kappa_hi) * (hi - lo);
     let quarter: T = c(core::f64::consts::FRAC_PI_4);
-    // `as` saturates (and maps NaN to 0), so this is total.
-    let want = ((turn / quarter).to_f64() as u32).saturating_add(1);
-    let pieces = want.clamp(1, MAX_PIECES);
+    // One piece per started quarter turn; NaN gives one piece.
+    let pieces = (whole_part_capped(turn / quarter, MAX_PIECES - 1) + 1).min(MAX_PIECES);
     let width = (hi - lo) / T::from_u32(pieces);
     let mut a = lo;
     let mut fa = at_lo.f;
@@ -175,6 +174,22 @@ fn clothoid_roots<T: Real>(
         a = b;
         fa = fb;
     }
+}
+
+/// The largest whole `n <= cap` with `n <= v` (0 for a negative or NaN `v`),
+/// by bisection on `T::from_u32`: no conversion through `f64`, which on an
+/// `f32` build would pull in soft-float `f64` routines.
+fn whole_part_capped<T: Real>(v: T, cap: u32) -> u32 {
+    let (mut lo, mut hi) = (0u32, cap);
+    while lo < hi {
+        let mid = lo + (hi - lo).div_ceil(2);
+        if T::from_u32(mid) <= v {
+            lo = mid;
+        } else {
+            hi = mid - 1;
+        }
+    }
+    lo
 }
 
 /// Safeguarded Newton in the bracket `[a, b]` with `f(a) < 0 <= f(b)`.
@@ -218,6 +233,26 @@ mod tests {
     use crate::path::anchored::PathBuilder;
     use crate::path::pose::Pose;
     use crate::path::segment::Segment;
+
+    #[test]
+    fn whole_part_capped_is_floor_clamped() {
+        // Reference: libm's `floor`, clamped to [0, cap] (NaN to 0).
+        for cap in [0u32, 1, 7, 255, 256] {
+            for v in [
+                -3.5f64, -0.0, 0.0, 0.25, 1.0, 1.999, 2.0, 6.5, 7.0, 254.99, 255.0, 1e9,
+            ] {
+                let want = libm::floor(v).clamp(0.0, f64::from(cap)) as u32;
+                assert_eq!(whole_part_capped(v, cap), want, "v {v}, cap {cap}");
+                assert_eq!(
+                    whole_part_capped(v as f32, cap),
+                    want,
+                    "f32 v {v}, cap {cap}"
+                );
+            }
+            assert_eq!(whole_part_capped(f64::NAN, cap), 0);
+            assert_eq!(whole_part_capped(f32::INFINITY, cap), cap);
+        }
+    }
 
     #[test]
     fn arc_of_several_laps_finds_the_foot_on_the_lap_in_the_window() {
