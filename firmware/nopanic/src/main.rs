@@ -10,9 +10,13 @@
 //! reference to `kappaline_nopanic_a_panic_path_survived`. A clean link is
 //! the proof; the binary is never run.
 //!
-//! Build (CI does it for both targets):
-//! `cargo build --release` (thumbv7em-none-eabihf) and
-//! `cargo build --release --target thumbv6m-none-eabi`.
+//! The per-cycle calls, the laws, the passes and the blob decoder and
+//! encoder run on `f32` and, with the feature `fixed-point`, on the Q32.32
+//! backend too (the same generic code, on opaque raw values of each).
+//!
+//! Build (CI does it for both targets, with and without `fixed-point`):
+//! `cargo build --release [--features fixed-point]` (thumbv7em-none-eabihf)
+//! and `cargo build --release --target thumbv6m-none-eabi [--features fixed-point]`.
 
 #![no_std]
 #![no_main]
@@ -74,12 +78,54 @@ fn u(i: usize) -> u32 {
     f(i).to_bits()
 }
 
+/// A number type the proof runs on: made of opaque bytes (any bit
+/// pattern), and folded back into bits for the sink.
+trait Opaque: Real {
+    /// The value made of the opaque bytes at `i`.
+    fn opaque(i: usize) -> Self;
+    /// 32 bits that depend on every bit of the value.
+    fn bits(self) -> u32;
+}
+
+impl Opaque for f32 {
+    fn opaque(i: usize) -> Self {
+        f(i)
+    }
+    fn bits(self) -> u32 {
+        self.to_bits()
+    }
+}
+
+#[cfg(feature = "fixed-point")]
+impl Opaque for kappaline::Q32x32 {
+    /// Any raw value, the reserved overflow values included.
+    fn opaque(i: usize) -> Self {
+        let lo = u64::from(u(2 * i));
+        let hi = u64::from(u(2 * i + 1));
+        Self::from_bits(((hi << 32) | lo) as i64)
+    }
+    fn bits(self) -> u32 {
+        let raw = self.to_bits();
+        (raw as u32) ^ ((raw >> 32) as u32)
+    }
+}
+
+/// An opaque value of the type the proof runs on.
+fn arg<T: Opaque>(i: usize) -> T {
+    T::opaque(i)
+}
+
+/// `T` from a constant (`T::from_f64`, the load-time conversion).
+fn constant<T: Real>(v: f64) -> T {
+    T::from_f64(v)
+}
+
 /// Writes a result where the optimiser must keep it.
-fn sink(v: f32) {
+fn sink<T: Opaque>(v: T) {
     // SAFETY: a volatile write of a static in bounds; single-threaded.
     unsafe {
         let p = addr_of_mut!(SINK).cast::<u32>();
-        core::ptr::write_volatile(p, core::ptr::read_volatile(p) ^ v.to_bits());
+        core::ptr::write_volatile(p, core::ptr::read_volatile(p) ^ v.bits());
     }
 }
 
@@ -92,8 +138,8 @@ fn sink_u(v: u32) {
 }
 
 /// An opaque segment (any values; most are refused, which is fine).
-fn segment(i: usize) -> Option<Segment<f32>> {
-    let s = Segment::clothoid(f(i), f(i + 1), f(i + 2)).ok()?;
+fn segment<T: Opaque>(i: usize) -> Option<Segment<T>> {
+    let s = Segment::clothoid(arg(i), arg(i + 1), arg(i + 2)).ok()?;
     Some(if byte(i) & 1 == 0 {
         s
     } else {
@@ -103,8 +149,8 @@ fn segment(i: usize) -> Option<Segment<f32>> {
 
 /// A path through the builder and one through the stored-path loaders.
 #[inline(never)]
-fn paths() -> (Option<Path<f32, N>>, Option<Path<f32, N>>) {
-    let mut b = PathBuilder::<f32, N>::new(Pose::new(f(0), f(1), f(2))).ok();
+fn paths<T: Opaque>() -> (Option<Path<T, N>>, Option<Path<T, N>>) {
+    let mut b = PathBuilder::<T, N>::new(Pose::new(arg(0), arg(1), arg(2))).ok();
     for k in 0..N {
         if let (Some(b), Some(s)) = (b.as_mut(), segment(3 + 3 * k)) {
             let _ = if byte(k) & 2 == 0 {
@@ -121,19 +167,19 @@ fn paths() -> (Option<Path<f32, N>>, Option<Path<f32, N>>) {
             b.close(Continuity::DEFAULT).ok()
         }
     });
-    let Ok(unit) = Segment::line(1.0f32) else {
+    let Ok(unit) = Segment::line(T::ONE) else {
         return (built, None);
     };
     let mut parts = [AnchoredSegment {
         segment: unit,
-        start: Pose::new(0.0, 0.0, 0.0),
+        start: Pose::new(T::ZERO, T::ZERO, T::ZERO),
     }; N];
     let mut n = 0;
     for (k, p) in parts.iter_mut().enumerate() {
         if let Some(s) = segment(40 + 6 * k) {
             *p = AnchoredSegment {
                 segment: s,
-                start: Pose::new(f(43 + 6 * k), f(44 + 6 * k), f(45 + 6 * k)),
+                start: Pose::new(arg(43 + 6 * k), arg(44 + 6 * k), arg(45 + 6 * k)),
             };
             n += 1;
         }
@@ -143,7 +189,7 @@ fn paths() -> (Option<Path<f32, N>>, Option<Path<f32, N>>) {
         heading: f64::from(f(91)),
     };
     let stored = Path::from_anchored(parts.get(..n).unwrap_or_default(), tol, byte(9) & 1 == 1);
-    let mut ab = AnchoredBuilder::<f32, N>::new(tol).ok();
+    let mut ab = AnchoredBuilder::<T, N>::new(tol).ok();
     for p in parts.iter().take(n) {
         if let Some(ab) = ab.as_mut() {
             let _ = ab.try_push(*p);
@@ -158,10 +204,10 @@ fn paths() -> (Option<Path<f32, N>>, Option<Path<f32, N>>) {
 
 /// The per-cycle calls on one path.
 #[inline(never)]
-fn per_cycle(path: &Path<f32, N>) {
-    let p = path.at(f(100));
+fn per_cycle<T: Opaque>(path: &Path<T, N>) {
+    let p = path.at(arg(100));
     sink(p.x + p.y + p.cos + p.sin + p.curvature);
-    if let Ok(p) = path.try_at(f(101)) {
+    if let Ok(p) = path.try_at(arg(101)) {
         sink(p.x);
     }
     sink(path.end_pose().heading);
@@ -169,22 +215,22 @@ fn per_cycle(path: &Path<f32, N>) {
         sink(j);
     }
     // Cursor stepping and lookahead.
-    let mut c = Cursor::at(path, f(103)).unwrap_or(Cursor::start());
-    if let Ok((p, _)) = c.advance(path, f(104)) {
+    let mut c = Cursor::at(path, arg(103)).unwrap_or(Cursor::start());
+    if let Ok((p, _)) = c.advance(path, arg(104)) {
         sink(p.station);
     }
-    if let Ok(p) = c.ahead(path, f(105)) {
+    if let Ok(p) = c.ahead(path, arg(105)) {
         sink(p.x);
     }
     sink(c.station(path) + c.point(path).y);
     // Tracking.
-    let cfg = TrackerConfig::<f32>::tractor();
+    let cfg = TrackerConfig::<T>::tractor();
     if let Ok(mut t) = Tracker::new(cfg) {
-        let pose = Pose::new(f(106), f(107), f(108));
+        let pose = Pose::new(arg(106), arg(107), arg(108));
         if let Ok(e) = t.update(path, &pose) {
             sink(e.cross_track + e.heading_error + e.station);
         }
-        if let Ok(e) = t.update_offset(path, &pose, f(109)) {
+        if let Ok(e) = t.update_offset(path, &pose, arg(109)) {
             sink(e.cross_track);
         }
         if let Ok(e) = t.update_driving(path, &pose, Direction::Reverse) {
@@ -193,7 +239,7 @@ fn per_cycle(path: &Path<f32, N>) {
         if let Ok(e) = t.acquire(path, &pose) {
             sink(e.station);
         }
-        if let Ok(p) = t.ahead(path, f(114)) {
+        if let Ok(p) = t.ahead(path, arg(114)) {
             sink(p.x + p.y);
         }
         t.reset();
@@ -202,56 +248,56 @@ fn per_cycle(path: &Path<f32, N>) {
                 sink(e.station);
             }
         }
-        let _ = t.set_lookahead(f(110));
+        let _ = t.set_lookahead(arg(110));
         t.resume_at(c);
         t.reset();
     }
     // Speed.
-    let v = Vehicle::<f32>::front_steered(f(111), f(112), f(113));
+    let v = Vehicle::<T>::front_steered(arg(111), arg(112), arg(113));
     if let Ok(v) = v {
-        sink(local_speed_limit(&v, f(114), f(115), f(116)));
-        sink(speed_cap(path, &v, f(117), Some(f(118))));
-        sink(speed_cap(path, &v, f(119), None));
+        sink(local_speed_limit(&v, arg(114), arg(115), arg(116)));
+        sink(speed_cap(path, &v, arg(117), Some(arg(118))));
+        sink(speed_cap(path, &v, arg(119), None));
         let mut lim = SteerLimiter::new();
-        lim.seed(&v, f(120));
-        sink(lim.apply(&v, f(121), f(122)).curvature);
+        lim.seed(&v, arg(120));
+        sink(lim.apply(&v, arg(121), arg(122)).curvature);
         sink(lim.hold().curvature);
-        sink(v.steer_from_curvature(f(123)) + v.curvature_from_steer(f(124)));
-        let (l, r) = v.wheel_speeds(f(125), f(126));
+        sink(v.steer_from_curvature(arg(123)) + v.curvature_from_steer(arg(124)));
+        let (l, r) = v.wheel_speeds(arg(125), arg(126));
         sink(l + r);
     }
 }
 
 /// The steering laws on an opaque input.
 #[inline(never)]
-fn laws() {
+fn laws<T: Opaque>() {
     let input = SteeringInput {
-        cross_track: f(130),
-        heading_error: f(131),
-        curvature: f(132),
-        sharpness: f(133),
-        speed: f(134),
-        goal: (f(135), f(136)),
-        control_point: f(137),
-        reference_point: f(138),
-        dt: f(139),
+        cross_track: arg(130),
+        heading_error: arg(131),
+        curvature: arg(132),
+        sharpness: arg(133),
+        speed: arg(134),
+        goal: (arg(135), arg(136)),
+        control_point: arg(137),
+        reference_point: arg(138),
+        dt: arg(139),
         saturated: byte(140) & 1 == 1,
-        path_direction: (f(141), f(142)),
+        path_direction: (arg(141), arg(142)),
     };
-    let mut pp = PurePursuit::<f32>::tractor();
-    let mut st = Stanley::<f32>::tractor();
-    let mut fr = FrenetFeedback::<f32>::tractor();
+    let mut pp = PurePursuit::<T>::tractor();
+    let mut st = Stanley::<T>::tractor();
+    let mut fr = FrenetFeedback::<T>::tractor();
     sink(pp.curvature(&input) + st.curvature(&input) + fr.curvature(&input));
-    sink(pp.lookahead(f(143)) + st.reference_point(Some(f(144))));
-    sink(f(145).wrap_angle());
-    let (s, c) = f(146).sin_cos();
-    sink(s + c + f(147).atan2(f(148)));
+    sink(pp.lookahead(arg(143)) + st.reference_point(Some(arg(144))));
+    sink(arg::<T>(145).wrap_angle());
+    let (s, c) = arg::<T>(146).sin_cos();
+    sink(s + c + arg::<T>(147).atan2(arg(148)));
 }
 
 /// The receiver's side of a cycle: geodetic fix to the local plane, antenna
 /// to control point, and tracking a field pass on its reference.
 #[inline(never)]
-fn receiver_and_pass(path: &Path<f32, N>) {
+fn receiver_and_pass<T: Opaque>(path: &Path<T, N>) {
     let origin = Geodetic::from_degrees(f64::from(f(150)), f64::from(f(151)), f64::from(f(152)));
     if let Ok(frame) = origin.and_then(LocalFrame::new) {
         let fix = Geodetic::from_degrees(f64::from(f(153)), f64::from(f(154)), f64::from(f(155)));
@@ -259,14 +305,17 @@ fn receiver_and_pass(path: &Path<f32, N>) {
             sink(e.east as f32 + e.north as f32 + e.up as f32);
         }
     }
-    if let Ok(arm) = LeverArm::new(f(156), f(157), f(158)) {
-        if let Ok(c) = control_point((f(159), f(160), f(161)), f(162), f(163), &arm) {
+    if let Ok(arm) = LeverArm::<T>::new(arg(156), arg(157), arg(158)) {
+        if let Ok(c) = control_point((arg(159), arg(160), arg(161)), arg(162), arg(163), &arm) {
             sink(c.x + c.y + c.z);
         }
     }
-    if let (Ok(passes), Ok(mut t)) = (Passes::new(f(164)), Tracker::new(TrackerConfig::tractor())) {
+    if let (Ok(passes), Ok(mut t)) = (
+        Passes::new(arg(164)),
+        Tracker::new(TrackerConfig::tractor()),
+    ) {
         let pass = passes.pass(i32::from(byte(165)) - 128);
-        if let Ok((t, p)) = pass.update(&mut t, path, &Pose::new(f(166), f(167), f(168))) {
+        if let Ok((t, p)) = pass.update(&mut t, path, &Pose::new(arg(166), arg(167), arg(168))) {
             sink(t.station);
             core::hint::black_box(p);
         }
@@ -275,23 +324,24 @@ fn receiver_and_pass(path: &Path<f32, N>) {
 
 /// `Guidance::step` with one law, over a few cycles of opaque input.
 #[inline(never)]
-fn guidance<L: SteeringLaw<f32>>(path: &Path<f32, N>, law: L, base: usize) {
-    let Ok(vehicle) = Vehicle::<f32>::front_steered(2.5, 0.6, 0.5) else {
+fn guidance<T: Opaque, L: SteeringLaw<T>>(path: &Path<T, N>, law: L, base: usize) {
+    let Ok(vehicle) = Vehicle::<T>::front_steered(constant(2.5), constant(0.6), constant(0.5))
+    else {
         return;
     };
     let sup = SupervisorConfig::default_for(&vehicle);
     let Ok(mut g) = Guidance::new(vehicle, law, TrackerConfig::tractor(), sup) else {
         return;
     };
-    g.seed_curvature(f(base));
+    g.seed_curvature(arg(base));
     for k in 0..4 {
         let i = base + 8 * k;
         let fix = match byte(i) % 3 {
             0 => FixUpdate::New(Fix::new(
-                f(i + 1),
-                f(i + 2),
-                f(i + 3),
-                f(i + 4),
+                arg(i + 1),
+                arg(i + 2),
+                arg(i + 3),
+                arg(i + 4),
                 Micros(u(i + 5)),
             )),
             1 => FixUpdate::Unchanged,
@@ -303,7 +353,7 @@ fn guidance<L: SteeringLaw<f32>>(path: &Path<f32, N>, law: L, base: usize) {
             0 => g.engage(),
             1 => g.standby(),
             2 => {
-                let _ = g.set_line_shift(path, f(i + 3));
+                let _ = g.set_line_shift(path, arg(i + 3));
             }
             _ => {}
         }
@@ -317,12 +367,12 @@ fn guidance<L: SteeringLaw<f32>>(path: &Path<f32, N>, law: L, base: usize) {
 /// The blob decoder in chunks of opaque sizes, the whole-slice decoder,
 /// and the encoder.
 #[inline(never)]
-fn blob() {
+fn blob<T: Opaque>() {
     let mut bytes = [0u8; 256];
     for (k, b) in bytes.iter_mut().enumerate() {
         *b = byte(200 + k);
     }
-    let mut d = Decoder::<f32, N>::new();
+    let mut d = Decoder::<T, N>::new();
     let mut at = 0usize;
     while at < bytes.len() {
         let size = usize::from(byte(at) % 32) + 1;
@@ -344,8 +394,8 @@ fn blob() {
         }
     }
     let len = usize::from(byte(199));
-    if let Ok((p, info)) = decode::<f32, N>(bytes.get(..len).unwrap_or_default()) {
-        sink(p.length() + f32::from(info.segments));
+    if let Ok((p, info)) = decode::<T, N>(bytes.get(..len).unwrap_or_default()) {
+        sink(p.length() + T::from_u32(u32::from(info.segments)));
     }
 }
 
@@ -388,19 +438,26 @@ fn receiver_bytes() {
     }
 }
 
-#[entry]
-fn main() -> ! {
-    let (built, stored) = paths();
-    blob();
-    receiver_bytes();
-    laws();
+/// Every generic entry point on one number type.
+fn run<T: Opaque>() {
+    let (built, stored) = paths::<T>();
+    blob::<T>();
+    laws::<T>();
     for path in [built, stored].iter().flatten() {
         per_cycle(path);
         receiver_and_pass(path);
-        guidance(path, PurePursuit::<f32>::tractor(), 300);
-        guidance(path, Stanley::<f32>::tractor(), 340);
-        guidance(path, FrenetFeedback::<f32>::tractor(), 380);
+        guidance(path, PurePursuit::<T>::tractor(), 300);
+        guidance(path, Stanley::<T>::tractor(), 340);
+        guidance(path, FrenetFeedback::<T>::tractor(), 380);
     }
+}
+
+#[entry]
+fn main() -> ! {
+    receiver_bytes();
+    run::<f32>();
+    #[cfg(feature = "fixed-point")]
+    run::<kappaline::Q32x32>();
     loop {
         core::hint::spin_loop();
     }
